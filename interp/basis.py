@@ -1,0 +1,107 @@
+"""Lagrange shape functions on simplices, in barycentric form.
+
+On a simplex with barycentric coordinates L_0 .. L_t the linear (P1) basis is
+N_i = L_i, and the quadratic (P2) basis is
+
+* corner i: N_i = L_i (2 L_i - 1)
+* edge (a, b): N = 4 L_a L_b
+
+with edges in meshio / VTK order (:data:`EDGES`).  Derivatives are taken with
+respect to each L_j as if independent; the chain rule with the gradients of
+the barycentric coordinates (which sum to zero) gives the spatial gradient.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+#: local corner pairs of the edge-midpoint nodes, per topological dimension.
+EDGES = {
+    1: ((0, 1),),
+    2: ((0, 1), (1, 2), (2, 0)),
+    3: ((0, 1), (1, 2), (0, 2), (0, 3), (1, 3), (2, 3)),
+}
+
+
+def n_basis(dim: int, order: int) -> int:
+    """Number of Lagrange nodes of a simplex of dimension ``dim`` and ``order``.
+
+    Examples
+    --------
+    >>> n_basis(2, 2), n_basis(3, 2)
+    (6, 10)
+    """
+    return dim + 1 + (len(EDGES[dim]) if order == 2 else 0)
+
+
+def shape(dim: int, order: int, bary: np.ndarray) -> np.ndarray:
+    """Values of the basis functions at barycentric points.
+
+    Parameters
+    ----------
+    dim, order : int
+        Topological dimension (1-3) and order (1 or 2).
+    bary : ndarray (n, dim + 1)
+        Barycentric coordinates.
+
+    Returns
+    -------
+    ndarray (n, n_basis)
+
+    Examples
+    --------
+    >>> shape(2, 2, np.array([[0.5, 0.5, 0.0]])).round(12).tolist()
+    [[0.0, 0.0, -0.0, 1.0, 0.0, 0.0]]
+    """
+    if order == 1:
+        return bary
+    a, b = np.array(EDGES[dim]).T
+    return np.hstack([bary * (2.0 * bary - 1.0), 4.0 * bary[:, a] * bary[:, b]])
+
+
+def shape_dbary(dim: int, order: int, bary: np.ndarray) -> np.ndarray:
+    """Derivatives of the basis functions with respect to each barycentric coordinate.
+
+    Returns
+    -------
+    ndarray (n, n_basis, dim + 1)
+        Entry [p, i, j] is dN_i / dL_j at point p.
+
+    Examples
+    --------
+    >>> shape_dbary(1, 2, np.array([[1.0, 0.0]]))[0].tolist()
+    [[3.0, 0.0], [0.0, -1.0], [0.0, 4.0]]
+    """
+    n, t1 = bary.shape
+    if order == 1:
+        return np.broadcast_to(np.eye(t1), (n, t1, t1))
+    edges = np.array(EDGES[dim])
+    out = np.zeros((n, n_basis(dim, order), t1))
+    corner = np.arange(t1)
+    out[:, corner, corner] = 4.0 * bary - 1.0
+    row = t1 + np.arange(len(edges))
+    out[:, row, edges[:, 0]] = 4.0 * bary[:, edges[:, 1]]
+    out[:, row, edges[:, 1]] = 4.0 * bary[:, edges[:, 0]]
+    return out
+
+
+def shape_grad(dim: int, order: int, bary: np.ndarray, grad_bary: np.ndarray) -> np.ndarray:
+    """Spatial gradients of the basis functions.
+
+    Parameters
+    ----------
+    bary : ndarray (n, dim + 1)
+    grad_bary : ndarray (n, dim + 1, g)
+        Gradient of each barycentric coordinate of the cell holding each point.
+
+    Returns
+    -------
+    ndarray (n, n_basis, g)
+
+    Examples
+    --------
+    >>> gl = np.array([[[-1.0, -1.0], [1.0, 0.0], [0.0, 1.0]]])
+    >>> shape_grad(2, 1, np.array([[1/3, 1/3, 1/3]]), gl)[0].tolist()
+    [[-1.0, -1.0], [1.0, 0.0], [0.0, 1.0]]
+    """
+    return np.einsum("pij,pjg->pig", shape_dbary(dim, order, bary), grad_bary)

@@ -1,0 +1,121 @@
+"""A field: one value (or vector of values) per mesh node, interpolated by the
+mesh's Lagrange basis (P1 on linear meshes, P2 on quadratic ones).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from interp.basis import shape, shape_grad
+from interp.errors import InterpError
+from interp.mesh import Mesh, as_points
+
+
+class Field:
+    """Node values on a mesh, evaluated with the P1 or P2 Lagrange basis.
+
+    Parameters
+    ----------
+    mesh : Mesh
+        The mesh carrying the values; its order selects P1 or P2.
+    values : array_like, shape (n_nodes,) or (n_nodes, c)
+        One value, or c components, per node.  NaN marks no data.
+    name : str, optional
+        Name of the quantity (used in outputs and pictures).
+    units : str, optional
+        Units of the values, for labels.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, Mesh
+    >>> mesh = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+    >>> f = Field(mesh, [1.0, 3.0, 5.0], name="depth")
+    >>> f([[0.5, 0.0], [2.0, 2.0]]).tolist()
+    [2.0, nan]
+    >>> f.gradient([[0.2, 0.2]]).tolist()
+    [[2.0, 4.0]]
+    """
+
+    def __init__(
+        self,
+        mesh: Mesh,
+        values: object,
+        *,
+        name: str | None = None,
+        units: str | None = None,
+    ) -> None:
+        if not isinstance(mesh, Mesh):
+            raise InterpError(f"a Field needs an interp.Mesh, not {type(mesh).__name__}")
+        vals = np.asarray(values, dtype=np.float64)
+        if vals.ndim not in (1, 2) or vals.shape[0] != mesh.n_nodes:
+            raise InterpError(
+                f"values must have one row per mesh node: the mesh has {mesh.n_nodes} nodes, "
+                f"the values have shape {vals.shape}"
+            )
+        vals = vals.copy()
+        vals.flags.writeable = False
+        self.mesh = mesh
+        self.values = vals
+        self.name = name
+        self.units = units
+
+    def __repr__(self) -> str:
+        label = f"{self.name!r}, " if self.name else ""
+        return f"Field({label}P{self.mesh.order} on {self.mesh!r}, {self.n_components} comp.)"
+
+    @property
+    def n_components(self) -> int:
+        """Number of components per node (1 for a scalar field)."""
+        return 1 if self.values.ndim == 1 else self.values.shape[1]
+
+    def _located(self, query: object):
+        points = as_points(query, "query points", gdim=self.mesh.gdim)
+        loc = self.mesh.index.locate(points)
+        return loc, loc.inside
+
+    def __call__(self, query: object, outside: float = np.nan) -> np.ndarray:
+        """Evaluate the field at query points.
+
+        Parameters
+        ----------
+        query : array_like (n, g)
+            Points to evaluate at (rows with NaN are outside).
+        outside : float
+            Value returned for points outside the mesh (default NaN).
+
+        Returns
+        -------
+        ndarray (n,) or (n, c)
+        """
+        loc, inside = self._located(query)
+        out = np.full((inside.size,) + self.values.shape[1:], outside, dtype=np.float64)
+        cells = self.mesh.cells[loc.cells[inside]]
+        n = shape(self.mesh.dim, self.mesh.order, loc.bary[inside])
+        out[inside] = np.einsum("pi,pi...->p...", n, self.values[cells])
+        return out
+
+    def gradient(self, query: object) -> np.ndarray:
+        """Spatial gradient of the field at query points.
+
+        Returns
+        -------
+        ndarray (n, g) or (n, g, c)
+            NaN for points outside the mesh.
+
+        Examples
+        --------
+        >>> from interp import Field, Mesh
+        >>> f = Field(Mesh([0.0, 2.0], [[0, 1]]), [1.0, 5.0])
+        >>> f.gradient([1.0]).tolist()
+        [[2.0]]
+        """
+        loc, inside = self._located(query)
+        g = self.mesh.gdim
+        out = np.full((inside.size, g) + self.values.shape[1:], np.nan)
+        cid = loc.cells[inside]
+        dn = shape_grad(
+            self.mesh.dim, self.mesh.order, loc.bary[inside], self.mesh.index.grad_bary(cid)
+        )
+        out[inside] = np.einsum("pig,pi...->pg...", dn, self.values[self.mesh.cells[cid]])
+        return out

@@ -1,0 +1,253 @@
+"""The spatial index over a mesh's cells, and point location.
+
+:class:`CellIndex` bins every cell's bounding box into a uniform grid of
+buckets (about two buckets per cell) stored in compressed sparse rows.  A
+query point looks up its bucket and tests the few cells listed there, so the
+cost per point does not depend on the order of the queries, and the index
+works on any mesh whose cells fill their space: convex or not, with holes,
+Delaunay or not.
+
+Coordinates are centred on the mesh's bounding box and scaled to [-1, 1]
+before anything is computed, so projected survey coordinates (x near 5e5,
+y near 5e6) lose no accuracy.
+
+Containment rule
+----------------
+A point is inside a cell when its smallest barycentric coordinate is at least
+``-TOLERANCE`` (1e-10, relative to the cell's size).  Among the cells that
+contain a point (on a shared edge or vertex there are several) the one where
+the point lies deepest is chosen, ties within 1e-12 going to the lowest cell
+index, so the answer is deterministic.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+
+from interp.errors import InterpError
+from interp.mesh import Mesh, as_points, det
+
+#: how far outside a cell, in barycentric units, a point still counts as inside.
+TOLERANCE = 1e-10
+#: barycentric difference below which two containing cells are a tie.
+TIE = 1e-12
+#: buckets per cell in the index grid.
+BUCKETS_PER_CELL = 2.0
+#: query points handled per block (bounds the temporary memory).
+BLOCK = 1 << 16
+
+
+@dataclass(frozen=True)
+class Location:
+    """Where query points fall in a mesh.
+
+    Attributes
+    ----------
+    cells : ndarray (n,) int64
+        Containing cell of each point, -1 where the point is outside the mesh.
+    bary : ndarray (n, dim + 1) float64
+        Barycentric coordinates in that cell (rows sum to 1); NaN outside.
+
+    Examples
+    --------
+    >>> from interp import Mesh
+    >>> loc = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]).locate([[0.1, 0.2]])
+    >>> bool(loc.inside[0])
+    True
+    """
+
+    cells: np.ndarray
+    bary: np.ndarray
+
+    @property
+    def inside(self) -> np.ndarray:
+        """Boolean mask of the points that fall in a cell."""
+        return self.cells >= 0
+
+
+class CellIndex:
+    """Bucket grid over a mesh's cells with the affine maps of every cell.
+
+    Built once per mesh (see :attr:`interp.Mesh.index`) and reused by every
+    query.
+
+    Examples
+    --------
+    >>> from interp import Mesh
+    >>> m = Mesh([[0.0, 0], [1, 0], [0, 1], [1, 1]], [[0, 1, 2], [1, 3, 2]])
+    >>> m.index.n_buckets >= 1
+    True
+    """
+
+    def __init__(self, mesh: Mesh) -> None:
+        if mesh.dim != mesh.gdim:
+            raise InterpError(
+                f"point location needs cells that fill their space; this mesh has "
+                f"{mesh.cell_type} cells in {mesh.gdim}D (an embedded surface or curve)"
+            )
+        g = mesh.gdim
+        lo, hi = mesh.bounds
+        self.center = 0.5 * (lo + hi)
+        self.scale = float(0.5 * (hi - lo).max()) or 1.0
+        corners = (mesh.points[mesh.corners] - self.center) / self.scale
+        self.origin = np.ascontiguousarray(corners[:, 0])
+        edges = corners[:, 1:] - corners[:, :1]
+        self.inverse = _inverse(edges)
+        pad = 1e-9
+        cmin = corners.min(axis=1) - pad
+        cmax = corners.max(axis=1) + pad
+        self.lo = cmin.min(axis=0)
+        extent = np.maximum(cmax.max(axis=0) - self.lo, 1e-12)
+        h = (np.prod(extent) / (BUCKETS_PER_CELL * mesh.n_cells)) ** (1.0 / g)
+        self.shape = np.maximum(np.ceil(extent / h), 1).astype(np.int64)
+        self.h = extent / self.shape
+        self.start, self.members = _bucket_cells(
+            self._bucket_coords(cmin), self._bucket_coords(cmax), self.shape
+        )
+
+    @property
+    def n_buckets(self) -> int:
+        """Number of buckets in the grid."""
+        return int(np.prod(self.shape))
+
+    def _bucket_coords(self, x: np.ndarray) -> np.ndarray:
+        i = np.floor((x - self.lo) / self.h)
+        return np.clip(i, 0, self.shape - 1).astype(np.int64)
+
+    def grad_bary(self, cells: np.ndarray) -> np.ndarray:
+        """Gradients of the barycentric coordinates of ``cells``, (n, dim+1, g).
+
+        In the mesh's own coordinates (the scaling is undone).
+        """
+        inv = self.inverse[cells].transpose(0, 2, 1)
+        g0 = -inv.sum(axis=1, keepdims=True)
+        return np.concatenate([g0, inv], axis=1) / self.scale
+
+    def locate(self, points: np.ndarray) -> Location:
+        """Locate validated (n, g) points; NaN rows are outside."""
+        n, g = points.shape
+        cells = np.full(n, -1, dtype=np.int64)
+        bary = np.full((n, g + 1), np.nan)
+        x = (points - self.center) / self.scale
+        for s in range(0, n, BLOCK):
+            _locate_block(self, x[s : s + BLOCK], cells[s : s + BLOCK], bary[s : s + BLOCK])
+        return Location(cells, bary)
+
+
+def _inverse(a: np.ndarray) -> np.ndarray:
+    """Inverses of a stack of 1x1, 2x2 or 3x3 matrices by the adjugate."""
+    n = a.shape[-1]
+    if n == 1:
+        return 1.0 / a
+    if n == 2:
+        adj = np.stack([a[:, 1, 1], -a[:, 0, 1], -a[:, 1, 0], a[:, 0, 0]], axis=1)
+        return (adj / det(a)[:, None]).reshape(-1, 2, 2)
+    c0, c1, c2 = a[:, :, 0], a[:, :, 1], a[:, :, 2]
+    rows = np.stack([np.cross(c1, c2), np.cross(c2, c0), np.cross(c0, c1)], axis=1)
+    return rows / det(a)[:, None, None]
+
+
+def _bucket_cells(i0: np.ndarray, i1: np.ndarray, shape: np.ndarray):
+    """CSR lists of the cells whose bucket box [i0, i1] overlaps each bucket."""
+    start = np.zeros(int(np.prod(shape)) + 1, dtype=np.int64)
+    _visit_buckets(i0, i1, shape, start[1:], np.empty(0, dtype=np.int64), False)
+    np.cumsum(start, out=start)
+    members = np.empty(start[-1], dtype=np.int64)
+    _visit_buckets(i0, i1, shape, start[:-1].copy(), members, True)
+    return start, members
+
+
+@numba.njit(cache=True, nogil=True)
+def _visit_buckets(i0, i1, shape, slot, members, fill):  # pragma: no cover
+    """Count the cells per bucket into ``slot``, or write them at ``slot`` (fill)."""
+    m, g = i0.shape
+    lo = np.zeros(3, dtype=np.int64)
+    hi = np.zeros(3, dtype=np.int64)
+    for c in range(m):
+        for a in range(g):
+            lo[a] = i0[c, a]
+            hi[a] = i1[c, a]
+        for i in range(lo[0], hi[0] + 1):
+            for j in range(lo[1], hi[1] + 1):
+                for k in range(lo[2], hi[2] + 1):
+                    b = i
+                    if g > 1:
+                        b = b * shape[1] + j
+                    if g > 2:
+                        b = b * shape[2] + k
+                    if fill:
+                        members[slot[b]] = c
+                    slot[b] += 1
+
+
+def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.ndarray) -> None:
+    ok = np.isfinite(x).all(axis=1)
+    i = np.floor((np.where(ok[:, None], x, 0.0) - index.lo) / index.h)
+    ok &= ((i >= 0) & (i < index.shape)).all(axis=1)
+    flat = np.zeros(x.shape[0], dtype=np.int64)
+    stride = 1
+    for a in range(x.shape[1] - 1, -1, -1):
+        flat += np.where(ok, i[:, a], 0).astype(np.int64) * stride
+        stride *= int(index.shape[a])
+    _scan(x, flat, ok, index.start, index.members, index.origin, index.inverse, cells, bary)
+
+
+@numba.njit(cache=True, nogil=True)
+def _scan(x, flat, ok, start, members, origin, inverse, cells, bary):  # pragma: no cover
+    n, g = x.shape
+    lam = np.empty(g + 1)
+    for p in range(n):
+        if not ok[p]:
+            continue
+        best = -np.inf
+        for j in range(start[flat[p]], start[flat[p] + 1]):
+            c = members[j]
+            s = 0.0
+            mn = np.inf
+            for b in range(g):
+                v = 0.0
+                for a in range(g):
+                    v += (x[p, a] - origin[c, a]) * inverse[c, a, b]
+                lam[b + 1] = v
+                s += v
+                mn = min(mn, v)
+            lam[0] = 1.0 - s
+            mn = min(mn, lam[0])
+            # members are in ascending cell order, so a tie keeps the lower index
+            if mn >= -TOLERANCE and (cells[p] < 0 or mn > best + TIE):
+                best = mn
+                cells[p] = c
+                for b in range(g + 1):
+                    bary[p, b] = lam[b]
+
+
+def locate(mesh: Mesh, query: object) -> Location:
+    """Find the containing cell and barycentric coordinates of each query point.
+
+    Parameters
+    ----------
+    mesh : Mesh
+        Cells must fill their space (``mesh.dim == mesh.gdim``).
+    query : array_like (n, g)
+        Query points; rows with NaN are reported outside.
+
+    Returns
+    -------
+    Location
+        ``cells`` (-1 outside) and ``bary`` (NaN outside).
+
+    Examples
+    --------
+    >>> from interp import Mesh
+    >>> m = Mesh([0.0, 1.0, 3.0], [[0, 1], [1, 2]])
+    >>> loc = locate(m, [0.5, 2.0, 4.0])
+    >>> loc.cells.tolist()
+    [0, 1, -1]
+    >>> loc.bary[1].tolist()
+    [0.5, 0.5]
+    """
+    points = as_points(query, "query points", gdim=mesh.gdim)
+    return mesh.index.locate(points)

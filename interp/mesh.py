@@ -1,0 +1,432 @@
+"""The simplicial mesh: points, cells and what can be derived from them.
+
+A :class:`Mesh` holds node coordinates ``points`` (n, g) and cell
+connectivity ``cells`` (m, k).  The cell kind follows from k and g: lines
+have 2 (P1) or 3 (P2) nodes, triangles 3 or 6, tetrahedra 4 or 10.  Node
+order inside a cell is meshio's (the VTK convention): corners first, then
+edge midpoints in the order of :data:`interp.basis.EDGES`.
+
+A mesh is immutable after construction; its spatial index is built on the
+first :meth:`Mesh.locate` and cached.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+from math import comb, factorial
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from interp.basis import EDGES
+from interp.errors import InterpError
+
+if TYPE_CHECKING:
+    from interp.index import CellIndex, Location
+
+#: meshio cell type names by (topological dimension, order).
+CELL_TYPES = {
+    (1, 1): "line",
+    (1, 2): "line3",
+    (2, 1): "triangle",
+    (2, 2): "triangle6",
+    (3, 1): "tetra",
+    (3, 2): "tetra10",
+}
+_KIND = {name: key for key, name in CELL_TYPES.items()}
+
+#: relative size below which a cell counts as degenerate (zero measure).
+DEGENERATE = 1e-12
+
+
+def as_points(points: object, name: str = "points", gdim: int | None = None) -> np.ndarray:
+    """Return ``points`` as a C-contiguous (n, g) float64 array.
+
+    A 1-D array is read as n points on a line when ``gdim`` is 1 or unknown,
+    and as a single point when ``gdim`` equals its length.
+
+    Examples
+    --------
+    >>> as_points([0.0, 1.0, 2.0]).shape
+    (3, 1)
+    >>> as_points([1.0, 2.0], gdim=2).shape
+    (1, 2)
+    """
+    arr = np.asarray(points, dtype=np.float64)
+    if arr.ndim == 1:
+        arr = arr.reshape(1, -1) if gdim is not None and gdim > 1 else arr.reshape(-1, 1)
+    if arr.ndim != 2 or arr.shape[1] not in (1, 2, 3):
+        raise InterpError(
+            f"{name} must have shape (n, d) with d in 1, 2 or 3; got shape {np.shape(points)}"
+        )
+    if gdim is not None and arr.shape[1] != gdim:
+        raise InterpError(
+            f"{name} have {arr.shape[1]} coordinates per point but the mesh is in {gdim}D; "
+            f"pass an (n, {gdim}) array"
+        )
+    return np.ascontiguousarray(arr)
+
+
+def check_finite(points: np.ndarray, name: str = "points") -> None:
+    """Raise if any coordinate is NaN or infinite, naming how many and the first.
+
+    Examples
+    --------
+    >>> check_finite(np.zeros((2, 2)))
+    """
+    bad = ~np.isfinite(points).all(axis=1)
+    if bad.any():
+        idx = np.flatnonzero(bad)
+        raise InterpError(
+            f"{name}: {idx.size} point(s) have NaN or infinite coordinates, the first at "
+            f"index {idx[0]}; remove or fill them before building a mesh"
+        )
+
+
+def det(a: np.ndarray) -> np.ndarray:
+    """Determinants of a stack of 1x1, 2x2 or 3x3 matrices (closed form).
+
+    Examples
+    --------
+    >>> float(det(np.array([[[2.0, 1.0], [1.0, 3.0]]]))[0])
+    5.0
+    """
+    n = a.shape[-1]
+    if n == 1:
+        return a[..., 0, 0].copy()
+    if n == 2:
+        return a[..., 0, 0] * a[..., 1, 1] - a[..., 0, 1] * a[..., 1, 0]
+    return (
+        a[..., 0, 0] * (a[..., 1, 1] * a[..., 2, 2] - a[..., 1, 2] * a[..., 2, 1])
+        - a[..., 0, 1] * (a[..., 1, 0] * a[..., 2, 2] - a[..., 1, 2] * a[..., 2, 0])
+        + a[..., 0, 2] * (a[..., 1, 0] * a[..., 2, 1] - a[..., 1, 1] * a[..., 2, 0])
+    )
+
+
+def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Measure and size of simplices given by their corners (m, t+1, g).
+
+    The measure (length, area or volume) is |det E| / t! of the edge vectors E
+    from corner 0 when t == g, and the Gram determinant sqrt(det(E E^T)) / t!
+    for a simplex embedded in a higher-dimensional space.  The size is the
+    largest coordinate difference along those edges, the scale against which
+    a measure counts as zero.
+
+    Examples
+    --------
+    >>> vol, size = simplex_geometry(np.array([[[0.0, 0], [1, 0], [0, 2]]]))
+    >>> float(vol[0]), float(size[0])
+    (1.0, 2.0)
+    """
+    edges = corners[:, 1:, :] - corners[:, :1, :]
+    t, g = edges.shape[1], edges.shape[2]
+    if t == g:
+        vol = np.abs(det(edges))
+    else:
+        vol = np.sqrt(np.maximum(det(np.einsum("mig,mjg->mij", edges, edges)), 0.0))
+    return vol / factorial(t), np.abs(edges).max(axis=(1, 2))
+
+
+class Mesh:
+    """A mesh of simplices (lines, triangles or tetrahedra), linear or quadratic.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, g)
+        Node coordinates, g in 1, 2, 3.  A 1-D array is n points on a line.
+    cells : array_like of int, shape (m, k)
+        Node indices of each cell, corners first then edge midpoints
+        (meshio / VTK order).
+    cell_type : str, optional
+        meshio name of the cell kind (``"line"``, ``"line3"``, ``"triangle"``,
+        ``"triangle6"``, ``"tetra"``, ``"tetra10"``).  Needed only where k is
+        ambiguous: k == 3 means ``"line3"`` in 1D and ``"triangle"`` otherwise.
+
+    Attributes
+    ----------
+    points : ndarray (n, g) float64, read-only
+    cells : ndarray (m, k) int64, read-only
+    dim : int
+        Topological dimension t of the cells (1, 2 or 3), t <= gdim.
+    gdim : int
+        Number of coordinates per point.
+    order : int
+        1 for linear (P1) cells, 2 for quadratic (P2) cells.
+
+    Quadratic cells are straight-sided: every midpoint node must lie at the
+    middle of its edge (curved, isoparametric cells are refused).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Mesh
+    >>> m = Mesh([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [1.0, 1.0]], [[0, 1, 2], [1, 3, 2]])
+    >>> m.dim, m.gdim, m.order, m.n_cells
+    (2, 2, 1, 2)
+    >>> m.measure().tolist()
+    [0.5, 0.5]
+    """
+
+    def __init__(self, points: object, cells: object, *, cell_type: str | None = None) -> None:
+        pts = as_points(points)
+        check_finite(pts)
+        try:
+            cel = np.asarray(cells)
+        except (TypeError, ValueError) as exc:
+            raise InterpError(f"cells must be an (m, k) array of node indices: {exc}") from None
+        if cel.ndim != 2 or cel.shape[0] == 0:
+            raise InterpError(
+                f"cells must be a non-empty (m, k) array of node indices; got shape {cel.shape}"
+            )
+        if not np.issubdtype(cel.dtype, np.integer):
+            if not np.issubdtype(cel.dtype, np.floating) or np.any(cel != np.round(cel)):
+                raise InterpError("cells must hold integer node indices")
+        cel = cel.astype(np.int64)
+        g, k = pts.shape[1], cel.shape[1]
+        self._dim, self._order = _infer_kind(k, g, cell_type)
+        if self._dim > g:
+            raise InterpError(
+                f"{CELL_TYPES[self._dim, self._order]} cells need at least {self._dim} "
+                f"coordinates per point; the points are {g}D"
+            )
+        _check_indices(cel, pts.shape[0])
+        pts.flags.writeable = False
+        cel = np.ascontiguousarray(cel)
+        cel.flags.writeable = False
+        self._points, self._cells = pts, cel
+        _check_measure(self)
+        if self._order == 2:
+            _check_midpoints(self)
+
+    def __repr__(self) -> str:
+        return (
+            f"Mesh({self.n_nodes} nodes, {self.n_cells} {self.cell_type} cells, "
+            f"{self.gdim}D, bounds {self.bounds.tolist()})"
+        )
+
+    @property
+    def points(self) -> np.ndarray:
+        """Node coordinates, (n, g) float64, read-only."""
+        return self._points
+
+    @property
+    def cells(self) -> np.ndarray:
+        """Cell connectivity, (m, k) int64, read-only."""
+        return self._cells
+
+    @property
+    def dim(self) -> int:
+        """Topological dimension of the cells."""
+        return self._dim
+
+    @property
+    def gdim(self) -> int:
+        """Geometric dimension: coordinates per point."""
+        return self._points.shape[1]
+
+    @property
+    def order(self) -> int:
+        """Polynomial order of the cells: 1 (P1) or 2 (P2)."""
+        return self._order
+
+    @property
+    def cell_type(self) -> str:
+        """meshio name of the cell kind, e.g. ``"triangle6"``."""
+        return CELL_TYPES[self._dim, self._order]
+
+    @property
+    def n_nodes(self) -> int:
+        """Number of nodes (points)."""
+        return self._points.shape[0]
+
+    @property
+    def n_cells(self) -> int:
+        """Number of cells."""
+        return self._cells.shape[0]
+
+    @property
+    def corners(self) -> np.ndarray:
+        """Corner node indices of each cell, (m, dim + 1)."""
+        return self._cells[:, : self._dim + 1]
+
+    @cached_property
+    def bounds(self) -> np.ndarray:
+        """Bounding box of the nodes used by cells, (2, g): row 0 minima, row 1 maxima."""
+        used = self._points[np.bincount(self._cells.ravel(), minlength=self.n_nodes) > 0]
+        return np.array([used.min(axis=0), used.max(axis=0)])
+
+    def measure(self) -> np.ndarray:
+        """Length, area or volume of each cell, (m,) float64.
+
+        Embedded cells (a triangle in 3D, a line in 2D) get their own measure.
+
+        Examples
+        --------
+        >>> Mesh([[0.0, 0, 0], [1, 0, 0], [0, 1, 0]], [[0, 1, 2]]).measure().tolist()
+        [0.5]
+        """
+        return self._cell_measure.copy()
+
+    @cached_property
+    def _cell_measure(self) -> np.ndarray:
+        return self._geometry[0]
+
+    @cached_property
+    def _geometry(self) -> tuple[np.ndarray, np.ndarray]:
+        return simplex_geometry(self._points[self.corners])
+
+    def edges(self) -> tuple[np.ndarray, np.ndarray]:
+        """Unique edges between corner nodes and the edges of each cell.
+
+        Returns
+        -------
+        edges : ndarray (e, 2) int64
+            Node pairs, smaller index first, sorted.
+        cell_edges : ndarray (m, n_local) int64
+            For each cell, the row in ``edges`` of its local edges in the order
+            of :data:`interp.basis.EDGES`.
+
+        Examples
+        --------
+        >>> m = Mesh([[0.0, 0], [1, 0], [0, 1], [1, 1]], [[0, 1, 2], [1, 3, 2]])
+        >>> m.edges()[0].tolist()
+        [[0, 1], [0, 2], [1, 2], [1, 3], [2, 3]]
+        """
+        return self._edges
+
+    @cached_property
+    def _edges(self) -> tuple[np.ndarray, np.ndarray]:
+        local = np.array(EDGES[self._dim])
+        pairs = np.sort(self.corners[:, local], axis=2).reshape(-1, 2)
+        uniq, inverse = np.unique(pairs, axis=0, return_inverse=True)
+        return uniq, inverse.reshape(self.n_cells, len(local))
+
+    def elevate(self) -> Mesh:
+        """Return the quadratic (P2) mesh with one shared midpoint node per edge.
+
+        New nodes are appended after the existing ones, so a P1 node keeps its
+        index.  A quadratic mesh is returned unchanged.
+
+        Examples
+        --------
+        >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]).elevate()
+        >>> m.cell_type, m.n_nodes
+        ('triangle6', 6)
+        """
+        if self._order == 2:
+            return self
+        edges, cell_edges = self.edges()
+        mid = 0.5 * (self._points[edges[:, 0]] + self._points[edges[:, 1]])
+        points = np.vstack([self._points, mid])
+        cells = np.hstack([self._cells, cell_edges + self.n_nodes])
+        return Mesh(points, cells, cell_type=CELL_TYPES[self._dim, 2])
+
+    def linear(self) -> Mesh:
+        """Return the P1 mesh of the corners (midpoint nodes kept but unused).
+
+        Examples
+        --------
+        >>> Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]).elevate().linear().cell_type
+        'triangle'
+        """
+        if self._order == 1:
+            return self
+        return Mesh(self._points, self.corners, cell_type=CELL_TYPES[self._dim, 1])
+
+    @cached_property
+    def index(self) -> CellIndex:
+        """The spatial index over the cells, built on first use and cached."""
+        from interp.index import CellIndex
+
+        return CellIndex(self)
+
+    def locate(self, query: object) -> Location:
+        """Find the cell containing each query point and its barycentric coordinates.
+
+        Works on any mesh whose cells fill their space (dim == gdim): convex or
+        not, with holes, Delaunay or not.  See :func:`interp.index.locate`.
+
+        Examples
+        --------
+        >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+        >>> loc = m.locate([[0.25, 0.25], [2.0, 2.0]])
+        >>> loc.cells.tolist()
+        [0, -1]
+        >>> loc.bary[0].tolist()
+        [0.5, 0.25, 0.25]
+        """
+        from interp.index import locate
+
+        return locate(self, query)
+
+
+def _infer_kind(k: int, g: int, cell_type: str | None) -> tuple[int, int]:
+    if cell_type is not None:
+        if cell_type not in _KIND:
+            raise InterpError(
+                f"cell type {cell_type!r} is not a simplex; only simplices are supported: "
+                f"{', '.join(_KIND)}"
+            )
+        dim, order = _KIND[cell_type]
+        expected = comb(dim + 1, 1) if order == 1 else comb(dim + 2, 2)
+        if k != expected:
+            raise InterpError(f"{cell_type} cells have {expected} nodes; cells have {k} columns")
+        return dim, order
+    by_k = {2: (1, 1), 4: (3, 1), 6: (2, 2), 10: (3, 2)}
+    if k == 3:
+        return (1, 2) if g == 1 else (2, 1)
+    if k == 4 and g < 3:
+        raise InterpError(
+            f"cells with 4 nodes in {g}D look like quadrilaterals; only simplices are supported "
+            "(split each quadrilateral into two triangles)"
+        )
+    if k not in by_k:
+        raise InterpError(
+            f"cells with {k} nodes are not simplices; supported: 2/3 (lines), 3/6 (triangles), "
+            "4/10 (tetrahedra)"
+        )
+    return by_k[k]
+
+
+def _check_indices(cells: np.ndarray, n: int) -> None:
+    bad = (cells < 0) | (cells >= n)
+    if bad.any():
+        row = int(np.flatnonzero(bad.any(axis=1))[0])
+        raise InterpError(
+            f"cells refer to nodes outside 0..{n - 1}: {int(bad.any(axis=1).sum())} cell(s), "
+            f"the first is cell {row} = {cells[row].tolist()}"
+        )
+    srt = np.sort(cells, axis=1)
+    rep = (srt[:, 1:] == srt[:, :-1]).any(axis=1)
+    if rep.any():
+        row = int(np.flatnonzero(rep)[0])
+        raise InterpError(
+            f"{int(rep.sum())} cell(s) repeat a node, the first is cell {row} = "
+            f"{cells[row].tolist()}; each cell needs distinct nodes"
+        )
+
+
+def _check_measure(mesh: Mesh) -> None:
+    vol, size = mesh._geometry
+    bad = vol <= DEGENERATE * size**mesh.dim
+    if bad.any():
+        idx = np.flatnonzero(bad)
+        raise InterpError(
+            f"{idx.size} cell(s) have zero {('length', 'area', 'volume')[mesh.dim - 1]}, "
+            f"the first at indices {idx[:5].tolist()}; remove degenerate cells"
+        )
+
+
+def _check_midpoints(mesh: Mesh) -> None:
+    local = np.array(EDGES[mesh.dim])
+    corners = mesh.points[mesh.corners]
+    expected = 0.5 * (corners[:, local[:, 0]] + corners[:, local[:, 1]])
+    actual = mesh.points[mesh.cells[:, mesh.dim + 1 :]]
+    size = np.ptp(corners, axis=1).max(axis=1)
+    off = np.abs(actual - expected).max(axis=(1, 2)) > 1e-8 * size
+    if off.any():
+        idx = np.flatnonzero(off)
+        raise InterpError(
+            f"{idx.size} quadratic cell(s) have midpoint nodes away from their edge midpoints, "
+            f"the first at indices {idx[:5].tolist()}; curved cells are not supported"
+        )

@@ -1,0 +1,139 @@
+"""Delaunay triangulation of scattered points, with the masks survey data needs.
+
+Survey data is concave and gappy: the convex hull of the points bridges bays
+and gaps with long thin triangles.  ``max_edge`` drops cells with an edge
+longer than a length, and ``boundary`` drops cells whose centroid lies
+outside a polygon.
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+from scipy.spatial import Delaunay, QhullError
+
+from interp.errors import InterpError
+from interp.mesh import Mesh, as_points, check_finite, simplex_geometry
+from interp.polygon import as_ring, contains
+
+#: cells of Delaunay output with measure below this, relative to size**dim, are dropped.
+SLIVER = 1e-10
+
+
+def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Merge points with identical coordinates, keeping first occurrences in order.
+
+    Returns
+    -------
+    unique : ndarray (u, d)
+    inverse : ndarray (n,) int64
+        Row of ``unique`` for each input point.
+
+    Examples
+    --------
+    >>> u, inv = merge_duplicates(np.array([[0.0, 0], [1, 0], [0, 0]]))
+    >>> u.tolist(), inv.tolist()
+    ([[0.0, 0.0], [1.0, 0.0]], [0, 1, 0])
+    """
+    _, first, inverse = np.unique(points, axis=0, return_index=True, return_inverse=True)
+    order = np.argsort(first)
+    rank = np.empty_like(order)
+    rank[order] = np.arange(order.size)
+    return points[first[order]], rank[inverse.ravel()].astype(np.int64)
+
+
+def triangulate(
+    points: object, *, max_edge: float | None = None, boundary: object | None = None
+) -> Mesh:
+    """Delaunay triangulation of scattered points in 1D, 2D or 3D.
+
+    Parameters
+    ----------
+    points : array_like (n, d)
+        Scattered points, d in 1, 2, 3.  Exact duplicates are merged with a
+        warning; the mesh nodes are the distinct points in first-seen order.
+    max_edge : float, optional
+        Drop cells with any edge longer than this.
+    boundary : array_like (p, 2), optional
+        2D only: a polygon; cells whose centroid lies outside it are dropped.
+
+    Returns
+    -------
+    Mesh
+        A P1 mesh of lines, triangles or tetrahedra.  Nodes used by no cell
+        (after masking) stay in the mesh.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> pts = np.array([[0.0, 0], [1, 0], [0, 1], [1, 1], [5, 5]])
+    >>> triangulate(pts).n_cells
+    4
+    >>> triangulate(pts, max_edge=2.0).n_cells
+    2
+    """
+    pts = as_points(points)
+    check_finite(pts)
+    d = pts.shape[1]
+    if pts.shape[0] < d + 1:
+        raise InterpError(f"a {d}D triangulation needs at least {d + 1} points; got {pts.shape[0]}")
+    uniq, _ = merge_duplicates(pts)
+    if len(uniq) < len(pts):
+        warnings.warn(
+            f"{len(pts) - len(uniq)} duplicate point(s) merged before triangulating",
+            stacklevel=2,
+        )
+    if len(uniq) < d + 1:
+        raise InterpError(
+            f"a {d}D triangulation needs at least {d + 1} distinct points; got {len(uniq)}"
+        )
+    cells = _delaunay(uniq)
+    keep = np.ones(len(cells), dtype=bool)
+    if max_edge is not None:
+        keep &= _longest_edge(uniq, cells) <= _positive(max_edge, "max_edge")
+    if boundary is not None:
+        if d != 2:
+            raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
+        keep &= contains([as_ring(boundary, "boundary")], uniq[cells].mean(axis=1))
+    if not keep.any():
+        raise InterpError(
+            "every cell was removed by the max_edge / boundary masks; "
+            "use a larger max_edge or check that the boundary surrounds the points"
+        )
+    return Mesh(uniq, cells[keep])
+
+
+def _positive(value: float, name: str) -> float:
+    v = float(value)
+    if not np.isfinite(v) or v <= 0:
+        raise InterpError(f"{name} must be a positive length; got {value}")
+    return v
+
+
+def _delaunay(points: np.ndarray) -> np.ndarray:
+    d = points.shape[1]
+    if d == 1:
+        order = np.argsort(points[:, 0], kind="stable")
+        return np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
+    lo, hi = points.min(axis=0), points.max(axis=0)
+    x = (points - 0.5 * (lo + hi)) / (0.5 * (hi - lo).max())
+    sv = np.linalg.svd(x - x.mean(axis=0), compute_uv=False)
+    if sv[-1] <= 1e-10 * sv[0]:
+        what = "collinear" if d == 2 else "coplanar"
+        raise InterpError(
+            f"the points are {what}: a {d}D triangulation needs points spread in {d} "
+            f"dimensions (use {d - 1}D coordinates instead)"
+        )
+    try:
+        cells = Delaunay(x).simplices.astype(np.int64)
+    except QhullError as exc:
+        raise InterpError(f"Delaunay triangulation failed: {str(exc).splitlines()[0]}") from None
+    vol, size = simplex_geometry(x[cells])
+    return cells[vol > SLIVER * size**d]
+
+
+def _longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
+    k = cells.shape[1]
+    a, b = np.triu_indices(k, 1)
+    return np.linalg.norm(points[cells[:, a]] - points[cells[:, b]], axis=2).max(axis=1)
