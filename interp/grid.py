@@ -1,0 +1,310 @@
+"""Regular node-centred grids: evaluating fields on them and saving them.
+
+A :class:`Grid` has one coordinate axis per dimension and one array per
+field, indexed ``[i, j(, k)]`` along x, y(, z) ("ij" indexing) with a
+trailing component axis for multi-component fields, NaN where a node is
+outside the mesh.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from interp.errors import InterpError
+from interp.field import Field
+from interp.io import atomic_path
+
+#: the largest grid evaluated in memory; larger ones go through dask chunks.
+MAX_NODES = 500_000_000
+#: grid rows evaluated per block, bounding temporary memory.
+BLOCK_NODES = 1 << 20
+
+
+@dataclass(frozen=True)
+class Grid:
+    """Fields sampled on a regular grid.
+
+    Attributes
+    ----------
+    axes : tuple of ndarray
+        Node coordinates along x, y(, z).
+    fields : dict of str to ndarray
+        Arrays of shape ``shape`` (+ components), NaN outside the mesh.
+    units : dict of str to str
+        Units of the fields that have them.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.zeros((3, 2))})
+    >>> g.shape, g.names, g.spacing
+    ((3, 2), ['z'], (1.0, 1.0))
+    """
+
+    axes: tuple[np.ndarray, ...]
+    fields: dict[str, np.ndarray]
+    units: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def shape(self) -> tuple[int, ...]:
+        """Number of nodes along each axis."""
+        return tuple(len(a) for a in self.axes)
+
+    @property
+    def names(self) -> list[str]:
+        """Field names, in order."""
+        return list(self.fields)
+
+    @property
+    def values(self) -> np.ndarray:
+        """The first field's array."""
+        return next(iter(self.fields.values()))
+
+    @property
+    def spacing(self) -> tuple[float, ...]:
+        """Node spacing along each axis (0 for an axis with one node)."""
+        return tuple(float(a[1] - a[0]) if len(a) > 1 else 0.0 for a in self.axes)
+
+    def points(self) -> np.ndarray:
+        """Coordinates of every node, (N, g), in the C order of the field arrays."""
+        mesh = np.meshgrid(*self.axes, indexing="ij")
+        return np.stack([m.ravel() for m in mesh], axis=1)
+
+    def save(self, path: str | Path) -> Path:
+        """Write the grid, choosing the format by the file extension.
+
+        ``.npz``: arrays ``x``, ``y`` (``z``) and one array per field;
+        ``.csv``: one row per node, coordinates then fields (empty cell for
+        NaN); ``.vti``: VTK XML image data (an open format read by ParaView
+        and pyvista).  The file is written atomically.
+
+        Examples
+        --------
+        >>> import tempfile, numpy as np
+        >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))})
+        >>> with tempfile.TemporaryDirectory() as d:
+        ...     out = g.save(Path(d) / "g.npz")
+        ...     sorted(np.load(out).files)
+        ['x', 'y', 'z']
+        """
+        path = Path(path)
+        writer = _WRITERS.get(path.suffix.lower())
+        if writer is None:
+            raise InterpError(
+                f"cannot save a grid as {path.name!r}: use one of {', '.join(_WRITERS)}"
+            )
+        with atomic_path(path) as tmp:
+            writer(self, tmp)
+        return path
+
+    def _columns(self) -> tuple[list[str], np.ndarray]:
+        """Column names and the (N, k) table of node coordinates and field values."""
+        names = list("xyz"[: len(self.axes)])
+        cols = [self.points()]
+        for name, v in self.fields.items():
+            flat = v.reshape(int(np.prod(self.shape)), -1)
+            names += [name] if flat.shape[1] == 1 else [f"{name}_{c}" for c in range(flat.shape[1])]
+            cols.append(flat)
+        return names, np.hstack(cols)
+
+
+def _write_npz(grid: Grid, path: Path) -> None:
+    arrays = dict(zip("xyz", grid.axes, strict=False))
+    clash = set(arrays) & set(grid.fields)
+    if clash:
+        raise InterpError(f"field names {sorted(clash)} clash with the coordinate arrays in .npz")
+    with open(path, "wb") as fh:
+        np.savez_compressed(fh, **arrays, **grid.fields)
+
+
+def _write_csv(grid: Grid, path: Path) -> None:
+    names, table = grid._columns()
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(",".join(names) + "\n")
+        for s in range(0, len(table), BLOCK_NODES):
+            text = np.char.mod("%.12g", table[s : s + BLOCK_NODES])
+            text[np.isnan(table[s : s + BLOCK_NODES])] = ""
+            fh.write("\n".join(",".join(row) for row in text.tolist()) + "\n")
+
+
+def _write_vti(grid: Grid, path: Path) -> None:
+    g = len(grid.axes)
+    n = list(grid.shape) + [1] * (3 - g)
+    origin = [float(a[0]) for a in grid.axes] + [0.0] * (3 - g)
+    spacing = [s or 1.0 for s in grid.spacing] + [1.0] * (3 - g)
+    extent = " ".join(f"0 {k - 1}" for k in n)
+    blocks, arrays, offset = [], [], 0
+    for name, v in grid.fields.items():
+        comps = 1 if v.ndim == g else v.shape[-1]
+        # VTK stores x fastest: reverse the spatial axes, keep components last
+        axes = tuple(range(g))[::-1] + tuple(range(g, v.ndim))
+        data = np.ascontiguousarray(np.transpose(v, axes))
+        raw = data.astype("<f8").tobytes()
+        arrays.append(
+            f'<DataArray type="Float64" Name="{name}" NumberOfComponents="{comps}" '
+            f'format="appended" offset="{offset}"/>'
+        )
+        blocks.append(np.uint64(len(raw)).tobytes() + raw)
+        offset += 8 + len(raw)
+    head = (
+        '<?xml version="1.0"?>\n'
+        '<VTKFile type="ImageData" version="1.0" byte_order="LittleEndian" '
+        'header_type="UInt64">\n'
+        f'<ImageData WholeExtent="{extent}" Origin="{" ".join(map(repr, origin))}" '
+        f'Spacing="{" ".join(map(repr, spacing))}">\n'
+        f'<Piece Extent="{extent}">\n<PointData>\n' + "\n".join(arrays) + "\n</PointData>\n"
+        "</Piece>\n</ImageData>\n"
+        '<AppendedData encoding="raw">\n_'
+    )
+    with open(path, "wb") as fh:
+        fh.write(head.encode())
+        for b in blocks:
+            fh.write(b)
+        fh.write(b"\n</AppendedData>\n</VTKFile>\n")
+
+
+_WRITERS = {".npz": _write_npz, ".csv": _write_csv, ".vti": _write_vti}
+
+
+def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Node coordinates lo, lo + s, ... up to hi along each axis.
+
+    Examples
+    --------
+    >>> [a.tolist() for a in grid_axes(np.array([[0.0, 0.0], [1.0, 0.5]]), np.array([0.5, 0.5]))]
+    [[0.0, 0.5, 1.0], [0.0, 0.5]]
+    """
+    n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9).astype(np.int64) + 1
+    return tuple(lo + s * np.arange(k) for lo, s, k in zip(bounds[0], spacing, n, strict=True))
+
+
+def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str, Field]:
+    """Name the fields to grid: a Field, a list of Fields or a dict of them.
+
+    All must share one mesh.  Unnamed fields are called ``value``,
+    ``value_1``, ...
+
+    Examples
+    --------
+    >>> from interp import Field, Mesh
+    >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+    >>> list(as_fields([Field(m, [0, 1, 2.0], name="z"), Field(m, [1, 1, 1.0])]))
+    ['z', 'value']
+    """
+    if isinstance(fields, Field):
+        fields = [fields]
+    if isinstance(fields, Mapping):
+        named = dict(fields)
+    else:
+        named = {}
+        for f in fields:
+            base = f.name or "value"
+            name, k = base, 0
+            while name in named:
+                k += 1
+                name = f"{base}_{k}"
+            named[name] = f
+    if not named or not all(isinstance(f, Field) for f in named.values()):
+        raise InterpError("pass a Field, or a list or dict of Fields, to grid")
+    mesh = next(iter(named.values())).mesh
+    if any(f.mesh is not mesh for f in named.values()):
+        raise InterpError("all fields gridded together must share one mesh")
+    return named
+
+
+def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
+    """Bounds as a (2, g) array from a flat (xmin, xmax, ymin, ymax[, zmin, zmax]).
+
+    Examples
+    --------
+    >>> grid_bounds(np.zeros((2, 2)), (0, 10, 5, 6)).tolist()
+    [[0.0, 5.0], [10.0, 6.0]]
+    """
+    g = mesh_bounds.shape[1]
+    if bounds is None:
+        return mesh_bounds.astype(np.float64)
+    b = np.asarray(bounds, dtype=np.float64).ravel()
+    if b.size != 2 * g or not np.isfinite(b).all():
+        raise InterpError(
+            f"bounds must be {2 * g} finite numbers (xmin, xmax, ...) for a {g}D field; got "
+            f"{np.asarray(bounds).tolist()}"
+        )
+    out = b.reshape(g, 2).T.copy()
+    if (out[1] < out[0]).any():
+        raise InterpError(f"bounds have a maximum below its minimum: {b.tolist()}")
+    return out
+
+
+def grid_spacing(spacing: object, g: int) -> np.ndarray:
+    """Spacing per axis from a number or a sequence of g positive numbers.
+
+    Examples
+    --------
+    >>> grid_spacing(0.5, 2).tolist()
+    [0.5, 0.5]
+    """
+    s = np.broadcast_to(np.asarray(spacing, dtype=np.float64).ravel(), (g,)).copy()
+    if not (np.isfinite(s).all() and (s > 0).all()):
+        raise InterpError(f"spacing must be positive; got {np.asarray(spacing).tolist()}")
+    return s
+
+
+def to_grid(
+    fields: Field | Sequence[Field] | Mapping[str, Field],
+    *,
+    spacing: float | Sequence[float],
+    bounds: Sequence[float] | None = None,
+) -> Grid:
+    """Evaluate one or more fields on a regular node-centred grid.
+
+    Parameters
+    ----------
+    fields : Field, list of Field or dict of str to Field
+        Fields on one mesh (located once for all of them).
+    spacing : float or sequence of float
+        Node spacing, one number or one per axis.
+    bounds : sequence of float, optional
+        ``(xmin, xmax, ymin, ymax[, zmin, zmax])``; default the mesh bounds.
+        Nodes start at each minimum and step by ``spacing`` up to the maximum.
+
+    Returns
+    -------
+    Grid
+        NaN at nodes outside the mesh.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, triangulate
+    >>> pts = np.array([[0.0, 0], [2, 0], [0, 2], [2, 2]])
+    >>> g = to_grid(Field(triangulate(pts), pts.sum(axis=1), name="z"), spacing=1.0)
+    >>> g.shape, g.values[1, 2]
+    ((3, 3), np.float64(3.0))
+    """
+    named = as_fields(fields)
+    mesh = next(iter(named.values())).mesh
+    axes = grid_axes(grid_bounds(mesh.bounds, bounds), grid_spacing(spacing, mesh.gdim))
+    shape = tuple(len(a) for a in axes)
+    total = int(np.prod(shape))
+    if total > MAX_NODES:
+        raise InterpError(
+            f"a grid of {total:,} nodes does not fit in memory; use a larger spacing or "
+            "evaluate it in chunks through dask (interp.to_grid(..., chunks=...))"
+        )
+    out = {
+        name: np.empty((total,) + f.values.shape[1:], dtype=np.float64) for name, f in named.items()
+    }
+    rows = max(1, BLOCK_NODES // max(1, total // shape[0]))
+    for s in range(0, shape[0], rows):
+        block = Grid((axes[0][s : s + rows],) + axes[1:], {}).points()
+        loc = mesh.index.locate(block)
+        start = s * (total // shape[0])
+        for name, f in named.items():
+            out[name][start : start + len(block)] = f.evaluate(loc)
+    fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
+    units = {n: f.units for n, f in named.items() if f.units}
+    return Grid(axes, fields_out, units)

@@ -1,0 +1,123 @@
+"""Moving a field elsewhere: onto another mesh's nodes, or along a section line."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from interp.errors import InterpError
+from interp.field import Field
+from interp.mesh import Mesh, as_points
+
+
+@dataclass(frozen=True)
+class Profile:
+    """A field sampled along a polyline (a section).
+
+    Attributes
+    ----------
+    distance : ndarray (n,)
+        Distance along the line from its first vertex (chainage).
+    points : ndarray (n, g)
+        Sample points.
+    values : ndarray (n,) or (n, c)
+        Field values, NaN where the line is outside the mesh.
+    vertices : ndarray (p, g)
+        The polyline's vertices.
+    name : str or None
+        The field's name.
+    """
+
+    distance: np.ndarray
+    points: np.ndarray
+    values: np.ndarray
+    vertices: np.ndarray
+    name: str | None = None
+
+
+def profile(field: Field, polyline: object, *, step: float) -> Profile:
+    """Sample a field along a polyline every ``step`` and at every vertex.
+
+    Parameters
+    ----------
+    field : Field
+    polyline : array_like (p, g)
+        At least two vertices, in the field's coordinates.
+    step : float
+        Sampling interval along each segment; every vertex is sampled too.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, triangulate
+    >>> pts = np.array([[0.0, 0], [4, 0], [0, 4], [4, 4]])
+    >>> f = Field(triangulate(pts), pts[:, 0])
+    >>> p = profile(f, [[0, 1], [3, 1], [3, 6]], step=1.5)
+    >>> p.distance.tolist()
+    [0.0, 1.5, 3.0, 4.5, 6.0, 7.5, 8.0]
+    >>> p.values[:3].tolist(), bool(np.isnan(p.values[-1]))
+    ([0.0, 1.5, 3.0], True)
+    """
+    vertices = as_points(polyline, "polyline", gdim=field.mesh.gdim)
+    if len(vertices) < 2 or not np.isfinite(vertices).all():
+        raise InterpError("a profile line needs at least two finite vertices")
+    step = float(step)
+    if not np.isfinite(step) or step <= 0:
+        raise InterpError(f"step must be a positive distance; got {step}")
+    seg = np.diff(vertices, axis=0)
+    length = np.linalg.norm(seg, axis=1)
+    if (length == 0).any():
+        raise InterpError(
+            f"the profile line repeats a vertex (segment {int(np.argmin(length))} has zero length)"
+        )
+    start = np.concatenate([[0.0], np.cumsum(length)])
+    count = np.ceil(length / step * (1 - 1e-12)).astype(np.int64)
+    which = np.repeat(np.arange(len(seg)), count)
+    local = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) * step
+    distance = np.concatenate([start[which] + local, start[-1:]])
+    points = np.vstack(
+        [vertices[which] + seg[which] * (local / length[which])[:, None], vertices[-1:]]
+    )
+    return Profile(distance, points, field(points), vertices, field.name)
+
+
+def transfer(field: Field, target: Mesh, *, conservative: bool = False) -> Field:
+    """Move a field onto another mesh's nodes.
+
+    Parameters
+    ----------
+    field : Field
+        Source field.
+    target : Mesh
+        Mesh to carry the result (its order sets P1 or P2).
+    conservative : bool
+        False (default): nodal interpolation, the source evaluated at the
+        target's nodes (NaN where they are outside the source mesh).  This
+        is exact when the target refines the source, but does not preserve
+        integrals in general.  True: the L2 projection of the source onto
+        the target's space, computed on the overlay of the two meshes, so the
+        integral over the common domain is preserved to round-off (2D
+        triangle meshes).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, Mesh, triangulate
+    >>> src = Field(triangulate(np.array([[0.0, 0], [1, 0], [0, 1], [1, 1]])), [0, 1, 2, 3.0])
+    >>> dst = triangulate(np.array([[0.0, 0], [1, 0], [0, 1], [0.5, 0.5]]))
+    >>> transfer(src, dst).values.tolist()
+    [0.0, 1.0, 2.0, 1.5]
+    """
+    if not isinstance(target, Mesh):
+        kind = type(target).__name__
+        raise InterpError(f"the transfer target must be an interp.Mesh, not {kind}")
+    if target.gdim != field.mesh.gdim:
+        raise InterpError(
+            f"the target mesh is {target.gdim}D but the field is on a {field.mesh.gdim}D mesh"
+        )
+    if not conservative:
+        return Field(target, field(target.points), name=field.name, units=field.units)
+    from interp.projection import project
+
+    return project(field, target)

@@ -1,0 +1,117 @@
+"""P1/P2 evaluation and gradients against exact and reference values."""
+
+import numpy as np
+import pytest
+from conftest import cube_mesh, square_mesh
+from scipy.interpolate import LinearNDInterpolator
+from scipy.spatial import Delaunay
+
+from interp import Field, InterpError, Mesh, triangulate
+
+
+def quadratic(x):
+    """A full quadratic polynomial in g variables (with cross terms)."""
+    g = x.shape[1]
+    out = 1.5 + x @ np.arange(1.0, g + 1) + (x**2) @ np.linspace(0.5, -1.0, g)
+    return out + (x[:, 0] * x[:, -1] if g > 1 else 0.0)
+
+
+def quadratic_grad(x):
+    g = x.shape[1]
+    grad = np.arange(1.0, g + 1) + 2 * x * np.linspace(0.5, -1.0, g)
+    if g > 1:
+        grad[:, 0] += x[:, -1]
+        grad[:, -1] += x[:, 0]
+    return grad
+
+
+def test_p1_matches_linear_nd_interpolator(rng):
+    # reference: scipy.interpolate.LinearNDInterpolator on the same triangulation
+    pts = rng.random((500, 2))
+    vals = np.sin(3 * pts[:, 0]) * np.cos(2 * pts[:, 1])
+    tri = Delaunay(pts)
+    field = Field(Mesh(pts, tri.simplices), vals)
+    q = rng.uniform(-0.05, 1.05, (20000, 2))
+    ref = LinearNDInterpolator(tri, vals)(q)
+    ours = field(q)
+    np.testing.assert_array_equal(np.isnan(ours), np.isnan(ref))
+    np.testing.assert_allclose(ours, ref, atol=1e-12, equal_nan=True)
+
+
+@pytest.mark.parametrize(
+    "mesh",
+    [Mesh(np.linspace(0, 1, 7), [[i, i + 1] for i in range(6)]), square_mesh(3), cube_mesh(2)],
+    ids=["1d", "2d", "3d"],
+)
+def test_lagrange_reproduction(mesh, rng):
+    # Lagrange elements reproduce their polynomial space exactly (Ciarlet 1978, ch. 2)
+    q = rng.random((500, mesh.gdim))
+    lin = lambda x: 0.7 - 2.0 * x.sum(axis=1) + x[:, 0]  # noqa: E731
+    p1 = Field(mesh, lin(mesh.points))
+    np.testing.assert_allclose(p1(q), lin(q), atol=1e-13)
+    p2 = Field(mesh.elevate(), quadratic(mesh.elevate().points))
+    np.testing.assert_allclose(p2(q), quadratic(q), atol=1e-12)
+    np.testing.assert_allclose(p2.gradient(q), quadratic_grad(q), atol=1e-11)
+    grad1 = p1.gradient(q)
+    expected = np.full(mesh.gdim, -2.0)
+    expected[0] += 1.0
+    np.testing.assert_allclose(grad1, np.broadcast_to(expected, grad1.shape), atol=1e-12)
+
+
+def convergence_rate(order: int) -> np.ndarray:
+    f = lambda x: np.sin(np.pi * x[:, 0]) * np.cos(np.pi * x[:, 1])  # noqa: E731
+    q = np.random.default_rng(5).random((20000, 2))
+    errors = []
+    for n in (4, 8, 16, 32):
+        mesh = square_mesh(n) if order == 1 else square_mesh(n).elevate()
+        errors.append(np.abs(Field(mesh, f(mesh.points))(q) - f(q)).max())
+    return np.log2(np.array(errors[:-1]) / np.array(errors[1:]))
+
+
+def test_convergence_p1_h2_p2_h3():
+    # a-priori interpolation estimates ||u - I_h u||_inf = O(h^(k+1)) (Brenner and Scott,
+    # The Mathematical Theory of Finite Element Methods, Theorem 4.4.20)
+    r1 = convergence_rate(1)
+    r2 = convergence_rate(2)
+    assert (np.abs(r1[1:] - 2.0) < 0.2).all(), r1
+    assert (np.abs(r2[1:] - 3.0) < 0.3).all(), r2
+
+
+def test_multicomponent_values_and_gradient(rng):
+    mesh = square_mesh(3).elevate()
+    x = mesh.points
+    vals = np.column_stack([x[:, 0], x[:, 1] ** 2, np.ones(len(x))])
+    f = Field(mesh, vals)
+    q = rng.random((50, 2))
+    np.testing.assert_allclose(
+        f(q), np.column_stack([q[:, 0], q[:, 1] ** 2, np.ones(50)]), atol=1e-13
+    )
+    g = f.gradient(q)
+    assert g.shape == (50, 2, 3)
+    np.testing.assert_allclose(g[:, 1, 1], 2 * q[:, 1], atol=1e-12)
+    np.testing.assert_allclose(g[:, 0, 0], 1.0, atol=1e-12)
+
+
+def test_outside_value_and_nan():
+    f = Field(square_mesh(1), [1.0, 2.0, 3.0, 4.0])
+    out = f([[2.0, 2.0], [0.0, 0.0]], outside=-99.0)
+    assert out.tolist() == [-99.0, 1.0]
+    assert np.isnan(f.gradient([[2.0, 2.0]])).all()
+
+
+def test_large_offsets_match_shifted_data(rng):
+    # projected coordinates (easting ~5e5, northing ~5e6) must lose no accuracy
+    local = rng.random((2000, 2)) * 200.0
+    z = 50 + 0.3 * local[:, 0] + 5 * np.sin(local[:, 1] / 20)
+    offset = np.array([512345.0, 5123456.0])
+    q = rng.random((5000, 2)) * 200.0
+    a = Field(triangulate(local), z)(q)
+    b = Field(triangulate(local + offset), z)(q + offset)
+    ok = ~np.isnan(a)
+    assert np.array_equal(ok, ~np.isnan(b))
+    assert (np.abs(a[ok] - b[ok]) / np.abs(a[ok]) < 1e-9).all()
+
+
+def test_value_length_mismatch():
+    with pytest.raises(InterpError, match="4 nodes.*shape \\(3,\\)"):
+        Field(square_mesh(1), [1.0, 2.0, 3.0])

@@ -1,0 +1,129 @@
+"""Point location and barycentric coordinates."""
+
+import numpy as np
+import pytest
+from conftest import cube_mesh, square_mesh
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.spatial import Delaunay
+
+from interp import InterpError, Mesh
+from interp.index import TOLERANCE
+
+
+def brute_force(mesh: Mesh, q: np.ndarray) -> np.ndarray:
+    """Barycentric coordinates of every query in every cell, by solving each system."""
+    corners = mesh.points[mesh.corners]
+    t = corners[:, 1:] - corners[:, :1]
+    lam = np.linalg.solve(
+        np.transpose(t, (0, 2, 1))[None], (q[:, None, :] - corners[None, :, 0])[..., None]
+    )[..., 0]
+    return np.concatenate([1 - lam.sum(axis=2, keepdims=True), lam], axis=2)
+
+
+@pytest.mark.parametrize("d, n", [(2, 400), (3, 300)])
+def test_bary_matches_scipy_delaunay(rng, d, n):
+    # reference: scipy.spatial.Delaunay.find_simplex and .transform (general-purpose library)
+    pts = rng.random((n, d))
+    tri = Delaunay(pts)
+    mesh = Mesh(pts, tri.simplices)
+    q = rng.uniform(-0.1, 1.1, (5000, d))
+    loc = mesh.locate(q)
+    ref = tri.find_simplex(q)
+    np.testing.assert_array_equal(loc.cells, ref)
+    inside = ref >= 0
+    tr = tri.transform[ref[inside]]
+    b = np.einsum("pij,pj->pi", tr[:, :d], q[inside] - tr[:, d])
+    ref_bary = np.column_stack([b, 1 - b.sum(axis=1)])
+    # scipy's transform maps to the coordinates of vertices 0..d-1 relative to vertex d
+    np.testing.assert_allclose(loc.bary[inside], ref_bary, atol=1e-12)
+    assert np.isnan(loc.bary[~inside]).all()
+
+
+def test_non_convex_mesh_with_hole_matches_brute_force(rng):
+    mesh = square_mesh(8)
+    centroid = mesh.points[mesh.corners].mean(axis=1)
+    keep = ~((np.abs(centroid - 0.5) < 0.25).all(axis=1))  # square hole
+    keep &= ~((centroid[:, 0] > 0.75) & (centroid[:, 1] > 0.75))  # L-shaped notch
+    holed = Mesh(mesh.points, mesh.cells[keep])
+    q = rng.random((3000, 2))
+    loc = holed.locate(q)
+    lam = brute_force(holed, q)
+    hit = lam.min(axis=2) >= -TOLERANCE
+    assert np.array_equal(loc.inside, hit.any(axis=1))
+    rows = np.flatnonzero(loc.inside)
+    assert hit[rows, loc.cells[rows]].all()
+
+
+def test_shared_vertex_deterministic():
+    mesh = square_mesh(2)
+    centre = np.array([[0.5, 0.5]])
+    first = mesh.locate(centre).cells[0]
+    # every cell touching the centre contains it; the choice must not depend on the batch
+    q = np.vstack([np.random.default_rng(1).random((100, 2)), centre])
+    assert mesh.locate(q).cells[-1] == first
+    bary = mesh.locate(centre).bary[0]
+    assert np.isclose(bary.max(), 1.0)
+
+
+def test_query_order_does_not_change_answers(rng):
+    mesh = cube_mesh(4)
+    q = rng.random((2000, 3))
+    perm = rng.permutation(len(q))
+    a, b = mesh.locate(q), mesh.locate(q[perm])
+    np.testing.assert_array_equal(a.cells[perm], b.cells)
+    np.testing.assert_array_equal(a.bary[perm], b.bary)
+
+
+def test_tolerance_outside_hull():
+    mesh = square_mesh(2)
+    loc = mesh.locate([[1.0 + 1e-13, 0.3], [1.0 + 1e-6, 0.3], [np.nan, 0.5]])
+    assert loc.cells[0] >= 0
+    assert loc.cells[1] == -1 and loc.cells[2] == -1
+
+
+def test_one_dimensional_locate():
+    mesh = Mesh([0.0, 1.0, 3.0, 6.0], [[0, 1], [1, 2], [2, 3]])
+    loc = mesh.locate([0.5, 2.0, 6.0, 7.0])
+    assert loc.cells.tolist() == [0, 1, 2, -1]
+    np.testing.assert_allclose(loc.bary[1], [0.5, 0.5])
+
+
+def test_embedded_mesh_cannot_locate():
+    mesh = Mesh([[0.0, 0, 0], [1, 0, 0], [0, 1, 0]], [[0, 1, 2]])
+    with pytest.raises(InterpError, match="embedded"):
+        mesh.locate([[0.1, 0.1, 0.0]])
+
+
+def test_query_dimension_mismatch():
+    with pytest.raises(InterpError, match="mesh is in 2D"):
+        square_mesh(1).locate(np.zeros((3, 3)))
+
+
+MESH2 = square_mesh(5)
+MESH3 = cube_mesh(2)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(
+        st.tuples(st.floats(-0.2, 1.2), st.floats(-0.2, 1.2), st.floats(-0.2, 1.2)),
+        min_size=1,
+        max_size=30,
+    ),
+    st.booleans(),
+)
+def test_bary_properties_and_brute_force(coords, three_d):
+    # property: rows sum to 1, reconstruct the point, and agree with a search over all cells
+    mesh = MESH3 if three_d else MESH2
+    q = np.array(coords)[:, : mesh.gdim]
+    loc = mesh.locate(q)
+    inside = loc.inside
+    np.testing.assert_allclose(loc.bary[inside].sum(axis=1), 1.0, atol=1e-14)
+    corners = mesh.points[mesh.corners[loc.cells[inside]]]
+    recon = np.einsum("pi,pig->pg", loc.bary[inside], corners)
+    np.testing.assert_allclose(recon, q[inside], atol=1e-13)
+    lam = brute_force(mesh, q)
+    np.testing.assert_array_equal(inside, (lam.min(axis=2) >= -TOLERANCE).any(axis=1))
+    rows = np.flatnonzero(inside)
+    assert (lam[rows, loc.cells[rows]].min(axis=1) >= -TOLERANCE).all()
