@@ -16,7 +16,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
-from interp.io import atomic_path
+from interp.io import atomic_path, write_table
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -92,10 +92,13 @@ class Grid:
         ['x', 'y', 'z']
         """
         path = Path(path)
-        writer = _WRITERS.get(path.suffix.lower())
+        suffix = path.suffix.lower()
+        if suffix == ".csv":
+            return write_table(path, *self._columns())
+        writer = _WRITERS.get(suffix)
         if writer is None:
             raise InterpError(
-                f"cannot save a grid as {path.name!r}: use one of {', '.join(_WRITERS)}"
+                f"cannot save a grid as {path.name!r}: use .csv or one of {', '.join(_WRITERS)}"
             )
         with atomic_path(path) as tmp:
             writer(self, tmp)
@@ -119,16 +122,6 @@ def _write_npz(grid: Grid, path: Path) -> None:
         raise InterpError(f"field names {sorted(clash)} clash with the coordinate arrays in .npz")
     with open(path, "wb") as fh:
         np.savez_compressed(fh, **arrays, **grid.fields)
-
-
-def _write_csv(grid: Grid, path: Path) -> None:
-    names, table = grid._columns()
-    with open(path, "w", encoding="utf-8", newline="") as fh:
-        fh.write(",".join(names) + "\n")
-        for s in range(0, len(table), BLOCK_NODES):
-            text = np.char.mod("%.12g", table[s : s + BLOCK_NODES])
-            text[np.isnan(table[s : s + BLOCK_NODES])] = ""
-            fh.write("\n".join(",".join(row) for row in text.tolist()) + "\n")
 
 
 def _write_vti(grid: Grid, path: Path) -> None:
@@ -167,7 +160,7 @@ def _write_vti(grid: Grid, path: Path) -> None:
         fh.write(b"\n</AppendedData>\n</VTKFile>\n")
 
 
-_WRITERS = {".npz": _write_npz, ".csv": _write_csv, ".vti": _write_vti}
+_WRITERS = {".npz": _write_npz, ".vti": _write_vti}
 
 
 def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]:

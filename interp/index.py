@@ -1,7 +1,7 @@
 """The spatial index over a mesh's cells, and point location.
 
 :class:`CellIndex` bins every cell's bounding box into a uniform grid of
-buckets (about two buckets per cell) stored in compressed sparse rows.  A
+buckets (one to three buckets per cell) stored in compressed sparse rows.  A
 query point looks up its bucket and tests the few cells listed there, so the
 cost per point does not depend on the order of the queries, and the index
 works on any mesh whose cells fill their space: convex or not, with holes,
@@ -34,8 +34,9 @@ from interp.mesh import Mesh, as_points, det
 TOLERANCE = 1e-10
 #: barycentric difference below which two containing cells are a tie.
 TIE = 1e-12
-#: buckets per cell in the index grid.
-BUCKETS_PER_CELL = 2.0
+#: buckets per cell in the index grid, by dimension (tuned with scripts/bench.py:
+#: a tetrahedron's bounding box is large for its volume, so 3D takes fewer).
+BUCKETS_PER_CELL = {1: 2.0, 2: 3.0, 3: 1.0}
 #: query points handled per block (bounds the temporary memory).
 BLOCK = 1 << 16
 
@@ -93,15 +94,17 @@ class CellIndex:
         self.center = 0.5 * (lo + hi)
         self.scale = float(0.5 * (hi - lo).max()) or 1.0
         corners = (mesh.points[mesh.corners] - self.center) / self.scale
-        self.origin = np.ascontiguousarray(corners[:, 0])
         edges = corners[:, 1:] - corners[:, :1]
         self.inverse = _inverse(edges)
+        # bary[1:] = x @ affine[:g] + affine[g], one block of memory per cell
+        shift = -np.einsum("ma,mab->mb", corners[:, 0], self.inverse)
+        self.affine = np.ascontiguousarray(np.concatenate([self.inverse, shift[:, None]], axis=1))
         pad = 1e-9
         cmin = corners.min(axis=1) - pad
         cmax = corners.max(axis=1) + pad
         self.lo = cmin.min(axis=0)
         extent = np.maximum(cmax.max(axis=0) - self.lo, 1e-12)
-        h = (np.prod(extent) / (BUCKETS_PER_CELL * mesh.n_cells)) ** (1.0 / g)
+        h = (np.prod(extent) / (BUCKETS_PER_CELL[g] * mesh.n_cells)) ** (1.0 / g)
         self.shape = np.maximum(np.ceil(extent / h), 1).astype(np.int64)
         self.h = extent / self.shape
         self.start, self.members = _bucket_cells(
@@ -184,23 +187,21 @@ def _visit_buckets(i0, i1, shape, slot, members, fill):  # pragma: no cover
 
 
 def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.ndarray) -> None:
-    ok = np.isfinite(x).all(axis=1)
-    i = np.floor((np.where(ok[:, None], x, 0.0) - index.lo) / index.h)
-    ok &= ((i >= 0) & (i < index.shape)).all(axis=1)
-    flat = np.zeros(x.shape[0], dtype=np.int64)
-    stride = 1
-    for a in range(x.shape[1] - 1, -1, -1):
-        flat += np.where(ok, i[:, a], 0).astype(np.int64) * stride
-        stride *= int(index.shape[a])
-    _scan(x, flat, ok, index.start, index.members, index.origin, index.inverse, cells, bary)
+    i = np.floor((x - index.lo) / index.h)
+    ok = ((i >= 0) & (i < index.shape)).all(axis=1)  # False for NaN rows too
+    i = np.where(ok[:, None], i, 0).astype(np.int64)
+    flat = np.where(ok, np.ravel_multi_index(tuple(i.T), tuple(index.shape)), -1)
+    # visiting the points bucket by bucket keeps the cell data in cache
+    order = np.argsort(flat)
+    _scan(x, flat, order, index.start, index.members, index.affine, cells, bary)
 
 
 @numba.njit(cache=True, nogil=True)
-def _scan(x, flat, ok, start, members, origin, inverse, cells, bary):  # pragma: no cover
+def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cover
     n, g = x.shape
     lam = np.empty(g + 1)
-    for p in range(n):
-        if not ok[p]:
+    for p in order:
+        if flat[p] < 0:
             continue
         best = -np.inf
         for j in range(start[flat[p]], start[flat[p] + 1]):
@@ -208,9 +209,9 @@ def _scan(x, flat, ok, start, members, origin, inverse, cells, bary):  # pragma:
             s = 0.0
             mn = np.inf
             for b in range(g):
-                v = 0.0
+                v = affine[c, g, b]
                 for a in range(g):
-                    v += (x[p, a] - origin[c, a]) * inverse[c, a, b]
+                    v += x[p, a] * affine[c, a, b]
                 lam[b + 1] = v
                 s += v
                 mn = min(mn, v)
@@ -222,6 +223,8 @@ def _scan(x, flat, ok, start, members, origin, inverse, cells, bary):  # pragma:
                 cells[p] = c
                 for b in range(g + 1):
                     bary[p, b] = lam[b]
+                if mn > TIE:
+                    break  # strictly inside: cells do not overlap, no other can be deeper
 
 
 def locate(mesh: Mesh, query: object) -> Location:

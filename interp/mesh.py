@@ -275,6 +275,45 @@ class Mesh:
     def _geometry(self) -> tuple[np.ndarray, np.ndarray]:
         return simplex_geometry(self._points[self.corners])
 
+    def quality(self) -> np.ndarray:
+        """Radius ratio of each cell, t r_in / r_circ: 1 for a regular simplex, 0 if flat.
+
+        Examples
+        --------
+        >>> m = Mesh([[0.0, 0], [1, 0], [0.5, 0.75**0.5]], [[0, 1, 2]])
+        >>> round(float(m.quality()[0]), 12)
+        1.0
+        """
+        t = self._dim
+        corners = self._points[self.corners]
+        if t == 1:
+            return np.ones(self.n_cells)
+        edges = corners[:, 1:] - corners[:, :1]
+        gram = np.einsum("mig,mjg->mij", edges, edges)
+        w = np.linalg.solve(gram, 0.5 * np.einsum("mii->mi", gram)[..., None])[..., 0]
+        r_circ = np.linalg.norm(np.einsum("mi,mig->mg", w, edges), axis=1)
+        facets = sum(simplex_geometry(np.delete(corners, i, axis=1))[0] for i in range(t + 1))
+        r_in = t * self._cell_measure / facets
+        return t * r_in / r_circ
+
+    def angles(self) -> np.ndarray:
+        """Interior angles of triangle cells in degrees, (m, 3); angle i at corner i.
+
+        Examples
+        --------
+        >>> Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]).angles().round(6).tolist()
+        [[90.0, 45.0, 45.0]]
+        """
+        if self._dim != 2:
+            raise InterpError(f"angles are defined for triangle cells, not {self.cell_type}")
+        c = self._points[self.corners]
+        a = c[:, [1, 2, 0]] - c
+        b = c[:, [2, 0, 1]] - c
+        cos = np.einsum("mig,mig->mi", a, b) / (
+            np.linalg.norm(a, axis=2) * np.linalg.norm(b, axis=2)
+        )
+        return np.degrees(np.arccos(np.clip(cos, -1.0, 1.0)))
+
     def edges(self) -> tuple[np.ndarray, np.ndarray]:
         """Unique edges between corner nodes and the edges of each cell.
 

@@ -2,18 +2,22 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
+from interp.grid import as_fields
+from interp.io import write_table
 from interp.mesh import Mesh, as_points
 
 
 @dataclass(frozen=True)
 class Profile:
-    """A field sampled along a polyline (a section).
+    """Fields sampled along a polyline (a section).
 
     Attributes
     ----------
@@ -21,27 +25,60 @@ class Profile:
         Distance along the line from its first vertex (chainage).
     points : ndarray (n, g)
         Sample points.
-    values : ndarray (n,) or (n, c)
-        Field values, NaN where the line is outside the mesh.
+    fields : dict of str to ndarray
+        Values of each field, (n,) or (n, c), NaN where the line is outside the mesh.
     vertices : ndarray (p, g)
         The polyline's vertices.
-    name : str or None
-        The field's name.
     """
 
     distance: np.ndarray
     points: np.ndarray
-    values: np.ndarray
+    fields: dict[str, np.ndarray]
     vertices: np.ndarray
-    name: str | None = None
+
+    @property
+    def values(self) -> np.ndarray:
+        """The first field's values."""
+        return next(iter(self.fields.values()))
+
+    @property
+    def name(self) -> str:
+        """The first field's name."""
+        return next(iter(self.fields))
+
+    def save(self, path: str | Path) -> Path:
+        """Write a CSV: distance, the coordinates, then one column per field (atomically).
+
+        Examples
+        --------
+        >>> import tempfile
+        >>> p = Profile(np.array([0.0, 1.0]), np.array([[0.0, 0], [1, 0]]),
+        ...             {"z": np.array([2.0, np.nan])}, np.array([[0.0, 0], [1, 0]]))
+        >>> with tempfile.TemporaryDirectory() as d:
+        ...     print(p.save(Path(d) / "p.csv").read_text())
+        distance,x,y,z
+        0,0,0,2
+        1,1,0,
+        <BLANKLINE>
+        """
+        names = ["distance"] + list("xyz"[: self.points.shape[1]])
+        cols = [self.distance[:, None], self.points]
+        for name, v in self.fields.items():
+            flat = v.reshape(len(v), -1)
+            names += [name] if flat.shape[1] == 1 else [f"{name}_{c}" for c in range(flat.shape[1])]
+            cols.append(flat)
+        return write_table(path, names, np.hstack(cols))
 
 
-def profile(field: Field, polyline: object, *, step: float) -> Profile:
-    """Sample a field along a polyline every ``step`` and at every vertex.
+def profile(
+    fields: Field | Sequence[Field] | Mapping[str, Field], polyline: object, *, step: float
+) -> Profile:
+    """Sample fields along a polyline every ``step`` and at every vertex.
 
     Parameters
     ----------
-    field : Field
+    fields : Field, list of Field or dict of str to Field
+        Fields on one mesh.
     polyline : array_like (p, g)
         At least two vertices, in the field's coordinates.
     step : float
@@ -59,7 +96,9 @@ def profile(field: Field, polyline: object, *, step: float) -> Profile:
     >>> p.values[:3].tolist(), bool(np.isnan(p.values[-1]))
     ([0.0, 1.5, 3.0], True)
     """
-    vertices = as_points(polyline, "polyline", gdim=field.mesh.gdim)
+    named = as_fields(fields)
+    mesh = next(iter(named.values())).mesh
+    vertices = as_points(polyline, "polyline", gdim=mesh.gdim)
     if len(vertices) < 2 or not np.isfinite(vertices).all():
         raise InterpError("a profile line needs at least two finite vertices")
     step = float(step)
@@ -79,7 +118,8 @@ def profile(field: Field, polyline: object, *, step: float) -> Profile:
     points = np.vstack(
         [vertices[which] + seg[which] * (local / length[which])[:, None], vertices[-1:]]
     )
-    return Profile(distance, points, field(points), vertices, field.name)
+    loc = mesh.index.locate(points)
+    return Profile(distance, points, {n: f.evaluate(loc) for n, f in named.items()}, vertices)
 
 
 def transfer(field: Field, target: Mesh, *, conservative: bool = False) -> Field:

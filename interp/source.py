@@ -1,0 +1,207 @@
+"""Sources: turning a file into fields, describing them, and sampling them file to file.
+
+A source is either a point file (delimited text with a header; its value
+columns are fitted on the fly with :func:`interp.fit`) or a mesh file that
+meshio reads (its point data are the fields).  These functions are what the
+command line calls; they are as usable from Python.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from contextlib import ExitStack
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from interp.errors import InterpError
+from interp.field import Field
+from interp.fit import fit
+from interp.io import TableWriter, iter_point_chunks, read, read_points
+
+#: file extensions read as point files; anything else goes to meshio.
+POINT_SUFFIXES = {".csv", ".txt", ".xyz", ".tsv", ".dat", ".pts"}
+
+
+def is_point_file(path: str | Path) -> bool:
+    """True when ``path`` is read as a point file rather than a mesh file.
+
+    Examples
+    --------
+    >>> is_point_file("survey.csv"), is_point_file("part.vtu")
+    (True, False)
+    """
+    return Path(path).suffix.lower() in POINT_SUFFIXES
+
+
+def load(
+    path: str | Path,
+    *,
+    coords: Sequence[str] = ("x", "y"),
+    order: int = 1,
+    max_edge: float | None = None,
+    boundary: object | None = None,
+    field: str | None = None,
+) -> dict[str, Field]:
+    """Read a source file as named fields.
+
+    Parameters
+    ----------
+    path : str or Path
+        A point file (``.csv``, ``.txt``, ``.xyz``, ``.tsv``, ``.dat``,
+        ``.pts``) or a mesh file that meshio reads.
+    coords : sequence of str
+        Point files only: the coordinate columns; every other numeric column
+        is a field.  The default ``("x", "y")`` makes ``z`` of a survey file
+        its value.
+    order, max_edge, boundary
+        Point files only: passed to :func:`interp.fit`.
+    field : str, optional
+        Keep only this field.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> _ = (d / "s.csv").write_text("x,y,z\\n0,0,1\\n1,0,2\\n0,1,3\\n")
+    >>> f = load(d / "s.csv")["z"]
+    >>> float(f([[0.5, 0.0]])[0])
+    1.5
+    """
+    if is_point_file(path):
+        points, values = read_points(path, coords=tuple(coords))
+        if not values:
+            raise InterpError(
+                f"{path}: no value columns besides the coordinates {', '.join(coords)}"
+            )
+        chosen = _choose(values, field, path)
+        return {
+            name: fit(points, v, order=order, max_edge=max_edge, boundary=boundary, name=name)
+            for name, v in chosen.items()
+        }
+    mesh, data = read(path)
+    if not data:
+        raise InterpError(f"{path}: the mesh file has no point data to use as a field")
+    return {name: Field(mesh, v, name=name) for name, v in _choose(data, field, path).items()}
+
+
+def _choose(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
+    if field is None:
+        return values
+    if field not in values:
+        raise InterpError(
+            f"{path}: no field named {field!r}; available: {', '.join(values) or 'none'}"
+        )
+    return {field: values[field]}
+
+
+def describe(fields: dict[str, Field]) -> dict:
+    """A summary of a source: dimension, counts, bounds, field ranges, cell quality.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, Mesh
+    >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+    >>> info = describe({"z": Field(m, [1.0, 2.0, 4.0])})
+    >>> info["cells"], info["measure"], info["fields"]["z"]["max"]
+    (1, 0.5, 4.0)
+    """
+    mesh = next(iter(fields.values())).mesh
+    quality = mesh.quality()
+    out = {
+        "dimension": mesh.gdim,
+        "cell_type": mesh.cell_type,
+        "nodes": mesh.n_nodes,
+        "cells": mesh.n_cells,
+        "bounds": mesh.bounds.tolist(),
+        "measure": float(mesh.measure().sum()),
+        "quality": {
+            "radius_ratio_min": float(quality.min()),
+            "radius_ratio_median": float(np.median(quality)),
+        },
+        "fields": {},
+    }
+    if mesh.dim == 2:
+        out["quality"]["smallest_angle_deg"] = float(mesh.angles().min())
+    for name, f in fields.items():
+        v = f.values
+        finite = v[np.isfinite(v).all(axis=1)] if v.ndim == 2 else v[np.isfinite(v)]
+        out["fields"][name] = {
+            "components": f.n_components,
+            "min": float(finite.min()) if finite.size else None,
+            "max": float(finite.max()) if finite.size else None,
+            "nan": int(np.isnan(v).any(axis=1).sum() if v.ndim == 2 else np.isnan(v).sum()),
+        }
+    return out
+
+
+@dataclass(frozen=True)
+class SampleReport:
+    """What :func:`sample_file` did: rows read and rows outside the mesh."""
+
+    rows: int
+    outside: int
+    path: Path
+
+
+def sample_file(
+    fields: dict[str, Field],
+    query: str | Path,
+    out: str | Path,
+    *,
+    coords: Sequence[str] = ("x", "y"),
+    chunk_rows: int = 500_000,
+    progress: Callable[[int], None] | None = None,
+    evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
+) -> SampleReport:
+    """Evaluate fields at the points of a query file, streaming it in chunks.
+
+    Each row of the query file is written unchanged, followed by one column
+    per field (one per component for vector fields); points outside the mesh
+    get empty cells.  Memory stays bounded by ``chunk_rows`` however long the
+    file.  The output is written atomically.
+
+    Parameters
+    ----------
+    evaluate : callable, optional
+        ``evaluate(field, points) -> values``; default ``field(points)``.  The
+        dask layer passes one that spreads the chunk over workers.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from interp import Field, Mesh
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> _ = (d / "q.csv").write_text("id,x,y\\nA,0.25,0.25\\nB,5,5\\n")
+    >>> f = Field(Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]), [0.0, 4.0, 8.0])
+    >>> sample_file({"z": f}, d / "q.csv", d / "o.csv").outside
+    1
+    >>> (d / "o.csv").read_text().splitlines()
+    ['id,x,y,z', 'A,0.25,0.25,3', 'B,5,5,']
+    """
+    evaluate = evaluate or (lambda f, p: f(p))
+    rows = outside = 0
+    names = [
+        n if f.n_components == 1 else f"{n}_{c}"
+        for n, f in fields.items()
+        for c in range(f.n_components)
+    ]
+    with ExitStack() as stack:
+        writer = None
+        for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
+            if writer is None:
+                header = chunk.header.split(chunk.delimiter) + names
+                writer = stack.enter_context(TableWriter(out, header, chunk.delimiter))
+            values = np.hstack(
+                [evaluate(f, chunk.points).reshape(len(chunk.points), -1) for f in fields.values()]
+            )
+            outside += int(np.isnan(values).all(axis=1).sum())
+            writer.write(chunk.rows, values)
+            rows += len(chunk.points)
+            if progress:
+                progress(rows)
+        if writer is None:
+            raise InterpError(f"{query}: the query file has no data rows")
+    return SampleReport(rows, outside, Path(out))

@@ -1,0 +1,153 @@
+"""Generate the demo data in data/ (deterministic: run it again and the files are identical).
+
+The scenario is invented: the Tarrow Bend gravel yard, a fictional depot on a
+gently sloping pad.  Two survey epochs (March and June 2026) of scattered
+ground points show a conical stockpile that grew between them and a second
+pile started in June.  The base surface is the pad as surveyed before any
+stockpiling.  A fictional pump bracket, meshed with quadratic tetrahedra,
+carries a steady temperature field for the mesh-file half of the demo.
+
+Usage::
+
+    python scripts/make_demo_data.py [--out data]
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+from pathlib import Path
+
+import numpy as np
+
+import interp
+
+#: the pad: z = 100 + 0.010 x - 0.005 y (metres, a local site grid)
+PAD = (100.0, 0.010, -0.005)
+#: site boundary (exterior) and the site office footprint (a hole)
+BOUNDARY = [(0, 0), (90, 0), (90, 40), (70, 40), (70, 70), (0, 70)]
+OFFICE = [(5, 55), (20, 55), (20, 65), (5, 65)]
+#: piles per epoch: centre x, centre y, base radius, height
+PILES = {
+    "2026_03": [(35.0, 30.0, 14.0, 5.0)],
+    "2026_06": [(35.0, 30.0, 17.0, 6.5), (75.0, 15.0, 9.0, 3.0)],
+}
+NOISE = 0.01  # standard deviation of the survey's height error, metres
+
+
+def pad(xy: np.ndarray) -> np.ndarray:
+    return PAD[0] + PAD[1] * xy[:, 0] + PAD[2] * xy[:, 1]
+
+
+def surface(xy: np.ndarray, piles) -> np.ndarray:
+    z = pad(xy)
+    for cx, cy, r, h in piles:
+        rho = np.hypot(xy[:, 0] - cx, xy[:, 1] - cy)
+        z += h * np.clip(1 - rho / r, 0, None)
+    return z
+
+
+def survey_points(rng: np.random.Generator, piles, n_open: int, n_pile: int) -> np.ndarray:
+    """Scattered survey positions: sparse over the yard, dense on the piles (walked shots)."""
+    ring = interp.polygon.as_ring(BOUNDARY)
+    office = interp.polygon.as_ring(OFFICE)
+    xy = rng.uniform([0, 0], [90, 70], (4 * n_open, 2))
+    xy = xy[interp.polygon.contains([ring, office], xy)][:n_open]
+    extra = []
+    for cx, cy, r, _ in piles:
+        rho = r * np.sqrt(rng.random(n_pile)) * 1.05
+        phi = rng.uniform(0, 2 * np.pi, n_pile)
+        extra.append(np.column_stack([cx + rho * np.cos(phi), cy + rho * np.sin(phi)]))
+        # the toe and the crest are always shot
+        phi = np.linspace(0, 2 * np.pi, 48, endpoint=False)
+        extra.append(np.column_stack([cx + r * np.cos(phi), cy + r * np.sin(phi)]))
+        extra.append([[cx, cy]])
+    xy = np.vstack([xy, *extra])
+    xy = xy[interp.polygon.contains([ring, office], xy)]
+    corners = np.array(BOUNDARY + OFFICE, dtype=float)
+    return np.vstack([corners, xy])
+
+
+def write_csv(path: Path, header: str, rows: list[str]) -> None:
+    path.write_text(header + "\n" + "\n".join(rows) + "\n", encoding="utf-8")
+
+
+def make_yard(out: Path, rng: np.random.Generator) -> dict:
+    meta = {"pad": PAD, "noise_sd": NOISE, "epochs": {}}
+    for epoch, piles in PILES.items():
+        xy = survey_points(rng, piles, 900, 1400)
+        z = surface(xy, piles) + rng.normal(0, NOISE, len(xy))
+        codes = np.where(np.isin(np.arange(len(xy)), np.arange(10)), "BND", "GRD")
+        rows = [f"{c},{x:.3f},{y:.3f},{h:.3f}" for c, (x, y), h in zip(codes, xy, z, strict=True)]
+        write_csv(out / f"yard_{epoch}.csv", "code,x,y,z", rows)
+        # volume of each cone above the pad: pi r^2 h / 3 (the pad's tilt adds nothing)
+        volume = sum(np.pi * r * r * h / 3 for _, _, r, h in piles)
+        meta["epochs"][epoch] = {"piles": piles, "volume_above_pad": volume, "points": len(xy)}
+    base_xy = survey_points(rng, [], 400, 0)
+    base_z = pad(base_xy) + rng.normal(0, NOISE, len(base_xy))
+    write_csv(
+        out / "yard_base.csv",
+        "x,y,z",
+        [f"{x:.3f},{y:.3f},{h:.3f}" for (x, y), h in zip(base_xy, base_z, strict=True)],
+    )
+    ring_rows = [f"{x},{y},0" for x, y in BOUNDARY] + [f"{x},{y},1" for x, y in OFFICE]
+    write_csv(out / "yard_boundary.csv", "x,y,ring", ring_rows)
+    check = np.array([[20.0, 20.0], [35.0, 30.0], [45.0, 35.0], [80.0, 10.0], [60.0, 60.0]])
+    write_csv(
+        out / "yard_checkpoints.csv",
+        "name,x,y",
+        [f"CP{i + 1},{x},{y}" for i, (x, y) in enumerate(check)],
+    )
+    return meta
+
+
+def make_bracket(out: Path) -> dict:
+    """A fictional pump bracket: an L-shaped block, quadratic tetrahedra, temperature in C."""
+    x = np.linspace(0.0, 0.12, 13)
+    y = np.linspace(0.0, 0.06, 7)
+    z = np.linspace(0.0, 0.04, 5)
+    grid = np.stack(np.meshgrid(x, y, z, indexing="ij"), axis=-1).reshape(-1, 3)
+    keep = ~((grid[:, 0] > 0.06 + 1e-9) & (grid[:, 2] > 0.02 + 1e-9))
+    pts = grid[keep]
+    mesh = interp.triangulate(pts)
+    centroid = mesh.points[mesh.corners].mean(axis=1)
+    inside = ~((centroid[:, 0] > 0.06) & (centroid[:, 2] > 0.02))
+    mesh = interp.Mesh(mesh.points, mesh.cells[inside]).elevate()
+    p = mesh.points
+    # steady conduction with a hot mounting face at x = 0 and a cooled tip: T = 80 - 400 x
+    # plus a quadratic bulge across the thickness (a heat source), degree 2 so P2 is exact
+    temp = 80.0 - 400.0 * p[:, 0] + 5000.0 * p[:, 2] * (0.04 - p[:, 2])
+    interp.write(out / "bracket.vtu", mesh, {"temperature": temp})
+
+    # exact mean over the L-shaped block = box [0, .06]x[0, .06]x[0, .04] plus
+    # box [.06, .12]x[0, .06]x[0, .02], integrating the polynomial in closed form per box
+    def box_integral(x0, x1, z0, z1, ly=0.06):
+        lx, lz = x1 - x0, z1 - z0
+        zpart = 0.02 * (z1**2 - z0**2) - (z1**3 - z0**3) / 3
+        return ly * (80 * lx * lz - 200 * (x1**2 - x0**2) * lz + 5000 * lx * zpart)
+
+    total = box_integral(0, 0.06, 0, 0.04) + box_integral(0.06, 0.12, 0, 0.02)
+    volume = 0.06 * 0.06 * 0.04 + 0.06 * 0.06 * 0.02
+    return {
+        "bracket": {
+            "cells": mesh.n_cells,
+            "temperature": "80 - 400 x + 5000 z (0.04 - z)",
+            "volume": volume,
+            "mean_temperature": total / volume,
+        }
+    }
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--out", type=Path, default=Path(__file__).parents[1] / "data")
+    args = parser.parse_args()
+    args.out.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(2026)
+    meta = make_yard(args.out, rng)
+    meta.update(make_bracket(args.out))
+    (args.out / "scenario.json").write_text(json.dumps(meta, indent=2) + "\n", encoding="utf-8")
+
+
+if __name__ == "__main__":
+    main()
