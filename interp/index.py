@@ -28,7 +28,7 @@ import numba
 import numpy as np
 
 from interp.errors import InterpError
-from interp.mesh import Mesh, as_points, det
+from interp.mesh import Mesh, as_points
 
 #: how far outside a cell, in barycentric units, a point still counts as inside.
 TOLERANCE = 1e-10
@@ -93,39 +93,32 @@ class CellIndex:
         lo, hi = mesh.bounds
         self.center = 0.5 * (lo + hi)
         self.scale = float(0.5 * (hi - lo).max()) or 1.0
-        corners = (mesh.points[mesh.corners] - self.center) / self.scale
-        edges = corners[:, 1:] - corners[:, :1]
-        self.inverse = _inverse(edges)
-        # bary[1:] = x @ affine[:g] + affine[g], one block of memory per cell
-        shift = -np.einsum("ma,mab->mb", corners[:, 0], self.inverse)
-        self.affine = np.ascontiguousarray(np.concatenate([self.inverse, shift[:, None]], axis=1))
         pad = 1e-9
-        cmin = corners.min(axis=1) - pad
-        cmax = corners.max(axis=1) + pad
-        self.lo = cmin.min(axis=0)
-        extent = np.maximum(cmax.max(axis=0) - self.lo, 1e-12)
+        self.lo = (lo - self.center) / self.scale - pad
+        extent = np.maximum((hi - lo) / self.scale + 2 * pad, 1e-12)
         h = (np.prod(extent) / (BUCKETS_PER_CELL[g] * mesh.n_cells)) ** (1.0 / g)
         self.shape = np.maximum(np.ceil(extent / h), 1).astype(np.int64)
         self.h = extent / self.shape
-        self.start, self.members = _bucket_cells(
-            self._bucket_coords(cmin), self._bucket_coords(cmax), self.shape
-        )
+        # bary[1:] = x @ affine[c, :g] + affine[c, g]: one block of memory per cell
+        self.affine = np.empty((mesh.n_cells, g + 1, g))
+        i0 = np.empty((mesh.n_cells, g), dtype=np.int64)
+        i1 = np.empty_like(i0)
+        scaled = (mesh.points - self.center) / self.scale
+        _cell_maps(scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1)
+        self.start, self.members = _bucket_cells(i0, i1, self.shape)
 
     @property
     def n_buckets(self) -> int:
         """Number of buckets in the grid."""
         return int(np.prod(self.shape))
 
-    def _bucket_coords(self, x: np.ndarray) -> np.ndarray:
-        i = np.floor((x - self.lo) / self.h)
-        return np.clip(i, 0, self.shape - 1).astype(np.int64)
-
     def grad_bary(self, cells: np.ndarray) -> np.ndarray:
         """Gradients of the barycentric coordinates of ``cells``, (n, dim+1, g).
 
         In the mesh's own coordinates (the scaling is undone).
         """
-        inv = self.inverse[cells].transpose(0, 2, 1)
+        g = self.affine.shape[2]
+        inv = self.affine[cells, :g].transpose(0, 2, 1)
         g0 = -inv.sum(axis=1, keepdims=True)
         return np.concatenate([g0, inv], axis=1) / self.scale
 
@@ -140,17 +133,49 @@ class CellIndex:
         return Location(cells, bary)
 
 
-def _inverse(a: np.ndarray) -> np.ndarray:
-    """Inverses of a stack of 1x1, 2x2 or 3x3 matrices by the adjugate."""
-    n = a.shape[-1]
-    if n == 1:
-        return 1.0 / a
-    if n == 2:
-        adj = np.stack([a[:, 1, 1], -a[:, 0, 1], -a[:, 1, 0], a[:, 0, 0]], axis=1)
-        return (adj / det(a)[:, None]).reshape(-1, 2, 2)
-    c0, c1, c2 = a[:, :, 0], a[:, :, 1], a[:, :, 2]
-    rows = np.stack([np.cross(c1, c2), np.cross(c2, c0), np.cross(c0, c1)], axis=1)
-    return rows / det(a)[:, None, None]
+@numba.njit(cache=True, nogil=True)
+def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1):  # pragma: no cover
+    """Affine map to barycentric coordinates and bucket range of every cell."""
+    m, g = i0.shape
+    e = np.empty((g, g))
+    inv = np.empty((g, g))
+    for c in range(m):
+        v0 = corners[c, 0]
+        for r in range(g):
+            for a in range(g):
+                e[r, a] = points[corners[c, r + 1], a] - points[v0, a]
+        if g == 1:
+            inv[0, 0] = 1.0 / e[0, 0]
+        elif g == 2:
+            d = e[0, 0] * e[1, 1] - e[0, 1] * e[1, 0]
+            inv[0, 0], inv[0, 1] = e[1, 1] / d, -e[0, 1] / d
+            inv[1, 0], inv[1, 1] = -e[1, 0] / d, e[0, 0] / d
+        else:
+            # rows of the inverse of the matrix whose columns are e[:, a]: cross products
+            for r in range(3):
+                p, q = (r + 1) % 3, (r + 2) % 3
+                inv[r, 0] = e[1, p] * e[2, q] - e[2, p] * e[1, q]
+                inv[r, 1] = e[2, p] * e[0, q] - e[0, p] * e[2, q]
+                inv[r, 2] = e[0, p] * e[1, q] - e[1, p] * e[0, q]
+            d = e[0, 0] * inv[0, 0] + e[1, 0] * inv[0, 1] + e[2, 0] * inv[0, 2]
+            for r in range(3):
+                for a in range(3):
+                    inv[r, a] /= d
+        for b in range(g):
+            shift = 0.0
+            for a in range(g):
+                affine[c, a, b] = inv[a, b]
+                shift -= points[v0, a] * inv[a, b]
+            affine[c, g, b] = shift
+        for a in range(g):
+            cmin = np.inf
+            cmax = -np.inf
+            for k in range(g + 1):
+                x = points[corners[c, k], a]
+                cmin = min(cmin, x)
+                cmax = max(cmax, x)
+            i0[c, a] = min(max(int(np.floor((cmin - pad - lo[a]) / h[a])), 0), shape[a] - 1)
+            i1[c, a] = min(max(int(np.floor((cmax + pad - lo[a]) / h[a])), 0), shape[a] - 1)
 
 
 def _bucket_cells(i0: np.ndarray, i1: np.ndarray, shape: np.ndarray):

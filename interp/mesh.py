@@ -103,6 +103,25 @@ def det(a: np.ndarray) -> np.ndarray:
     )
 
 
+def inverse(a: np.ndarray) -> np.ndarray:
+    """Inverses of a stack of 1x1, 2x2 or 3x3 matrices by the adjugate (closed form).
+
+    Examples
+    --------
+    >>> inverse(np.array([[[2.0, 0.0], [0.0, 4.0]]])).tolist()
+    [[[0.5, 0.0], [0.0, 0.25]]]
+    """
+    n = a.shape[-1]
+    if n == 1:
+        return 1.0 / a
+    if n == 2:
+        adj = np.stack([a[:, 1, 1], -a[:, 0, 1], -a[:, 1, 0], a[:, 0, 0]], axis=1)
+        return (adj / det(a)[:, None]).reshape(-1, 2, 2)
+    c0, c1, c2 = a[:, :, 0], a[:, :, 1], a[:, :, 2]
+    rows = np.stack([np.cross(c1, c2), np.cross(c2, c0), np.cross(c0, c1)], axis=1)
+    return rows / det(a)[:, None, None]
+
+
 def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Measure and size of simplices given by their corners (m, t+1, g).
 
