@@ -4,11 +4,17 @@ mesh's Lagrange basis (P1 on linear meshes, P2 on quadratic ones).
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from interp.basis import shape, shape_grad
 from interp.errors import InterpError
+from interp.index import Location
 from interp.mesh import Mesh, as_points
+
+if TYPE_CHECKING:
+    from interp.regions import Region
 
 
 class Field:
@@ -69,10 +75,8 @@ class Field:
         """Number of components per node (1 for a scalar field)."""
         return 1 if self.values.ndim == 1 else self.values.shape[1]
 
-    def _located(self, query: object):
-        points = as_points(query, "query points", gdim=self.mesh.gdim)
-        loc = self.mesh.index.locate(points)
-        return loc, loc.inside
+    def _locate(self, query: object) -> Location:
+        return self.mesh.index.locate(as_points(query, "query points", gdim=self.mesh.gdim))
 
     def __call__(self, query: object, outside: float = np.nan) -> np.ndarray:
         """Evaluate the field at query points.
@@ -88,11 +92,28 @@ class Field:
         -------
         ndarray (n,) or (n, c)
         """
-        loc, inside = self._located(query)
+        return self.evaluate(self._locate(query), outside)
+
+    def evaluate(self, location: Location, outside: float = np.nan) -> np.ndarray:
+        """Evaluate the field at points already located in its mesh.
+
+        Several fields on one mesh can share one :meth:`Mesh.locate`.
+
+        Examples
+        --------
+        >>> from interp import Field, Mesh
+        >>> mesh = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+        >>> loc = mesh.locate([[0.5, 0.5]])
+        >>> Field(mesh, [0.0, 2.0, 4.0]).evaluate(loc).tolist()
+        [3.0]
+        """
+        inside = location.inside
         out = np.full((inside.size,) + self.values.shape[1:], outside, dtype=np.float64)
-        cells = self.mesh.cells[loc.cells[inside]]
-        n = shape(self.mesh.dim, self.mesh.order, loc.bary[inside])
-        out[inside] = np.einsum("pi,pi...->p...", n, self.values[cells])
+        cells = self.mesh.cells[location.cells[inside]]
+        n = shape(self.mesh.dim, self.mesh.order, location.bary[inside])
+        out[inside] = np.einsum(
+            "pi,pi->p" if self.values.ndim == 1 else "pi,pic->pc", n, self.values[cells]
+        )
         return out
 
     def gradient(self, query: object) -> np.ndarray:
@@ -110,7 +131,8 @@ class Field:
         >>> f.gradient([1.0]).tolist()
         [[2.0]]
         """
-        loc, inside = self._located(query)
+        loc = self._locate(query)
+        inside = loc.inside
         g = self.mesh.gdim
         out = np.full((inside.size, g) + self.values.shape[1:], np.nan)
         cid = loc.cells[inside]
@@ -119,3 +141,22 @@ class Field:
         )
         out[inside] = np.einsum("pig,pi...->pg...", dn, self.values[self.mesh.cells[cid]])
         return out
+
+    def integrate(self, region: Region | None = None) -> float | np.ndarray:
+        """Integral of the field over its mesh, or over the part inside ``region``.
+
+        Exact for the interpolated field; see :func:`interp.integrate`.
+
+        Returns
+        -------
+        float, or ndarray (c,) for c components.
+
+        Examples
+        --------
+        >>> from interp import Field, Mesh
+        >>> Field(Mesh([0.0, 2.0], [[0, 1]]), [1.0, 5.0]).integrate()
+        6.0
+        """
+        from interp.integrate import integrate
+
+        return integrate(self, region=region)

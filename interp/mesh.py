@@ -108,8 +108,8 @@ def inverse(a: np.ndarray) -> np.ndarray:
 
     Examples
     --------
-    >>> inverse(np.array([[[2.0, 0.0], [0.0, 4.0]]])).tolist()
-    [[[0.5, 0.0], [0.0, 0.25]]]
+    >>> inverse(np.array([[[2.0, 1.0], [1.0, 1.0]]])).tolist()
+    [[[1.0, -1.0], [-1.0, 2.0]]]
     """
     n = a.shape[-1]
     if n == 1:
