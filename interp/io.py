@@ -1,0 +1,775 @@
+"""Files in and out: meshes through meshio, point tables, polygons, atomic writes.
+
+Mesh files in any format meshio reads become a :class:`~interp.mesh.Mesh`
+and its point data; point files are delimited text with a header row (comma,
+semicolon, tab or whitespace), read whole with :func:`read_points` or in
+chunks with :func:`iter_point_chunks`; :class:`TableWriter` and
+:func:`write_table` write such tables back.  Every file is written through
+:func:`atomic_path`: to a temporary file in the target's folder that replaces
+the target only once it is complete, so a failed write never leaves a
+half-written file and never damages an existing one.
+"""
+
+from __future__ import annotations
+
+import csv
+import os
+import secrets
+import warnings
+from collections.abc import Iterator, Mapping, Sequence
+from contextlib import ExitStack, contextmanager
+from dataclasses import dataclass
+from itertools import islice, repeat
+from pathlib import Path
+from typing import IO
+
+import meshio
+import numpy as np
+
+# meshio.read prints and exits the process when no reader fits; call the readers directly
+from meshio._helpers import reader_map
+
+from interp.errors import InterpError
+from interp.mesh import CELL_TYPES, Mesh
+from interp.polygon import as_ring
+
+#: delimiters of point files, as written; " " stands for any run of whitespace.
+DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab", " ": "whitespace"}
+#: data rows parsed at a time by :func:`read_points`.
+CHUNK_ROWS = 500_000
+#: table rows formatted at a time by :func:`write_table`.
+WRITE_ROWS = 1 << 18
+#: text encoding of point files; undecodable bytes pass through unchanged.
+ENCODING = {"encoding": "utf-8", "errors": "surrogateescape"}
+
+
+@contextmanager
+def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
+    """Yield a temporary path beside ``path`` that replaces it when the block succeeds.
+
+    The temporary file is created empty in the same folder with the same
+    suffix (so writers that go by the suffix pick the right format).  When
+    the ``with`` block ends normally it is moved onto ``path`` with
+    :func:`os.replace`, which is atomic; when the block raises it is deleted
+    and ``path`` is left as it was.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> target = pathlib.Path(tempfile.mkdtemp()) / "note.txt"
+    >>> with atomic_path(target) as tmp:
+    ...     _ = tmp.write_text("done")
+    >>> target.read_text(), sorted(p.name for p in target.parent.iterdir())
+    ('done', ['note.txt'])
+    """
+    path = Path(path)
+    tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
+    try:
+        os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
+    except OSError as exc:
+        raise InterpError(
+            f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
+            "check that it exists and is writable"
+        ) from None
+    try:
+        yield tmp
+        os.replace(tmp, path)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+
+
+def read(path: str | os.PathLike) -> tuple[Mesh, dict[str, np.ndarray]]:
+    """Read a mesh file (any format meshio reads) and its point data.
+
+    The cells of the highest topological dimension in the file are taken
+    (several blocks of the same kind are merged); lower-dimensional blocks,
+    such as boundary lines or vertices, are ignored.  Those cells must be
+    simplices: lines, triangles or tetrahedra, linear or quadratic.  All
+    points of the file are kept, so the point data line up with the nodes.
+
+    Many formats store 3D points even for planar meshes: a triangle mesh
+    whose z coordinates are all exactly 0 becomes a 2D mesh (gdim 2); any
+    other mesh keeps the coordinates as stored.
+
+    Returns
+    -------
+    mesh : Mesh
+    fields : dict of str to ndarray
+        The point data, (n_nodes,) for scalars and (n_nodes, c) for vectors
+        (higher-rank arrays are flattened to c columns), as float64.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "plate.vtu"
+    >>> mesh = Mesh([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]], [[0, 1, 2]])
+    >>> _ = write(path, mesh, {"t": [1.0, 2.0, 3.0]})
+    >>> back, fields = read(path)
+    >>> back.gdim, back.cell_type, fields["t"].tolist()
+    (2, 'triangle', [1.0, 2.0, 3.0])
+    """
+    path = Path(path)
+    if not path.is_file():
+        raise InterpError(f"{path}: no such file; check the name and folder")
+    reasons = []
+    for file_format in _formats(path):
+        try:
+            raw = reader_map[file_format](str(path))
+            break
+        except Exception as exc:  # meshio's readers raise many kinds of errors on bad input
+            reasons.append(f"as {file_format}: {type(exc).__name__} {exc}".rstrip())
+    else:
+        raise InterpError(
+            f"{path}: cannot read it as a mesh file ({'; '.join(reasons)}); check that the "
+            "file is complete and in a format meshio reads (.vtu, .vtk, .msh, .xdmf, ...)"
+        )
+    cell_type, cells = _top_cells(path, raw.cells)
+    points = np.asarray(raw.points, dtype=np.float64)
+    if points.shape[1] == 3 and cell_type in ("triangle", "triangle6") and not points[:, 2].any():
+        points = points[:, :2]
+    try:
+        mesh = Mesh(points, cells, cell_type=cell_type)
+    except InterpError as exc:
+        raise InterpError(f"{path}: {exc}") from None
+    fields = {}
+    for name, data in raw.point_data.items():
+        arr = np.asarray(data)
+        # "gmsh:..." arrays are meshio's bookkeeping of gmsh entity tags, not data
+        if name.startswith("gmsh:") or not np.issubdtype(arr.dtype, np.number):
+            continue
+        arr = arr.astype(np.float64).reshape(len(arr), -1)
+        fields[name] = arr[:, 0] if arr.shape[1] == 1 else arr
+    return mesh, fields
+
+
+def _formats(path: Path) -> list[str]:
+    """meshio format names for the suffixes of ``path``, gmsh first for ``.msh``."""
+    ext, found = "", []
+    for suffix in reversed(path.suffixes):
+        ext = (suffix + ext).lower()
+        found += meshio.extension_to_filetypes.get(ext, [])
+    if not found:
+        raise InterpError(
+            f"{path}: meshio has no mesh format for the suffix {path.suffix!r}; "
+            "use .vtu, .vtk, .msh or .xdmf, for example"
+        )
+    # ".msh" is shared by gmsh and ANSYS; gmsh files are by far the more common
+    return sorted(found, key=lambda name: name != "gmsh")
+
+
+def _top_cells(path: Path, blocks: list[meshio.CellBlock]) -> tuple[str, np.ndarray]:
+    """The kind and merged connectivity of the highest-dimensional cell blocks."""
+    top = max((b.dim for b in blocks), default=-1)
+    counts: dict[str, int] = {}
+    for b in blocks:
+        if b.dim == top:
+            counts[b.type] = counts.get(b.type, 0) + len(b.data)
+    found = ", ".join(f"{kind} ({n} cell{'s' * (n != 1)})" for kind, n in counts.items())
+    if top < 1:
+        raise InterpError(
+            f"{path}: no line, triangle or tetrahedron cells in the file"
+            + (f" (found {found})" if found else "")
+        )
+    if not set(counts) <= set(CELL_TYPES.values()):
+        raise InterpError(
+            f"{path}: only simplices (lines, triangles, tetrahedra, linear or quadratic) are "
+            f"supported; found {found}; export the mesh as simplices or split its cells"
+        )
+    if len(counts) > 1:
+        raise InterpError(
+            f"{path}: the {top}D cells mix {found}; a mesh needs one cell kind: "
+            "export it with a single element order"
+        )
+    (kind,) = counts
+    return kind, np.concatenate([b.data for b in blocks if b.dim == top]).astype(np.int64)
+
+
+def write(
+    path: str | os.PathLike,
+    mesh: Mesh,
+    fields: Mapping[str, object] | None = None,
+) -> Path:
+    """Write a mesh and node fields to any format meshio writes, atomically.
+
+    Points are stored with three coordinates (2D and 1D meshes get zero
+    columns), as most formats expect; :func:`read` turns a planar triangle
+    mesh back into 2D.
+
+    Parameters
+    ----------
+    path : path-like
+        Output file; its suffix chooses the format (``.vtu``, ``.vtk``,
+        ``.msh``, ``.xdmf``, ...).
+    mesh : Mesh
+    fields : dict of str to array_like, optional
+        Node values, (n_nodes,) or (n_nodes, c) each, stored as point data.
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "bar.vtk"
+    >>> mesh = Mesh([[0.0, 0.0], [2.0, 0.0], [0.0, 1.0]], [[0, 1, 2]])
+    >>> write(path, mesh, {"u": [[0.0, 1.0], [1.0, 1.0], [0.0, 0.0]]}).name
+    'bar.vtk'
+    """
+    path = Path(path)
+    file_format = _formats(path)[0]
+    point_data = {}
+    for name, values in (fields or {}).items():
+        arr = np.asarray(values, dtype=np.float64)
+        if arr.ndim not in (1, 2) or arr.shape[0] != mesh.n_nodes:
+            raise InterpError(
+                f"field {name!r} has shape {arr.shape}; pass ({mesh.n_nodes},) or "
+                f"({mesh.n_nodes}, c) values, one per mesh node"
+            )
+        point_data[str(name)] = arr
+    points = np.zeros((mesh.n_nodes, 3))
+    points[:, : mesh.gdim] = mesh.points
+    out = meshio.Mesh(points, [(mesh.cell_type, np.asarray(mesh.cells))], point_data=point_data)
+    with atomic_path(path) as tmp:
+        try:
+            meshio.write(tmp, out, file_format=file_format)
+        except Exception as exc:  # meshio's writers raise many kinds of errors
+            raise InterpError(
+                f"cannot write {path} as {file_format}: {type(exc).__name__}: {exc}"
+            ) from exc
+    return path
+
+
+@dataclass(frozen=True)
+class PointChunk:
+    """A block of data rows of a point file.
+
+    Attributes
+    ----------
+    points : ndarray (n, d) float64
+        The coordinate columns, in the order asked for.
+    values : dict of str to ndarray (n,)
+        The other numeric columns by header name; empty cells are NaN.
+    rows : list of str
+        The raw text of each data row, without the line break.
+    line_numbers : ndarray (n,) int64
+        The 1-based line of each row in the file.
+    header : str
+        The raw header line.
+    names : list of str
+        The header's column names, stripped.
+    delimiter : str
+        ``","``, ``";"``, ``"\\t"``, or ``" "`` for whitespace.
+    text_columns : dict of str to int
+        Columns found to hold text so far (left out of ``values``), each
+        with the line of its first non-numeric cell.
+    """
+
+    points: np.ndarray
+    values: dict[str, np.ndarray]
+    rows: list[str]
+    line_numbers: np.ndarray
+    header: str
+    names: list[str]
+    delimiter: str
+    text_columns: dict[str, int]
+
+
+@dataclass(frozen=True)
+class _Layout:
+    """The columns of a point file, from its header line."""
+
+    header: str
+    names: list[str]
+    delimiter: str
+    coords: list[int]
+    values: list[int]
+
+
+def iter_point_chunks(
+    path: str | os.PathLike,
+    coords: Sequence[str] = ("x", "y"),
+    chunk_rows: int = 500_000,
+) -> Iterator[PointChunk]:
+    """Read a delimited point file in blocks of rows, keeping memory bounded.
+
+    The first non-blank line is the header; the delimiter is the first of
+    tab, semicolon and comma found in it, else whitespace.  Fields may be
+    quoted (``"a, b"``) in comma, semicolon and tab files.  Blank lines are
+    skipped.  Columns named in ``coords`` (matched case-insensitively) are the
+    coordinates and must hold a finite number in every row.  Every other
+    named column becomes a value field; empty cells are NaN.  A column with a
+    non-numeric cell is text (a point code, a description): from the chunk
+    holding that cell on, it is left out of ``values`` and listed in
+    ``text_columns``.  Rows with fewer cells than the header are padded with
+    empty cells; extra cells must be empty.
+
+    Parameters
+    ----------
+    path : path-like
+    coords : sequence of str
+        Names of the coordinate columns, 1 to 3 of them.
+    chunk_rows : int
+        Lines read per chunk.
+
+    Yields
+    ------
+    PointChunk
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "pts.csv"
+    >>> _ = path.write_text("X,Y,depth\\n0,0,1.5\\n1,0,\\n1,1,2\\n")
+    >>> chunks = list(iter_point_chunks(path, chunk_rows=2))
+    >>> [c.rows for c in chunks]
+    [['0,0,1.5', '1,0,'], ['1,1,2']]
+    >>> chunks[0].values["depth"].tolist(), chunks[1].line_numbers.tolist()
+    ([1.5, nan], [4])
+    """
+    path = Path(path)
+    coords = _check_coords(coords)
+    if int(chunk_rows) != chunk_rows or chunk_rows < 1:
+        raise InterpError(f"chunk_rows must be a positive integer; got {chunk_rows!r}")
+    with _open_table(path) as file:
+        line = 0
+        for text in file:
+            line += 1
+            if text.strip():
+                break
+        else:
+            raise InterpError(f"{path}: the file is empty; expected a header row such as x,y,z")
+        layout = _layout(path, text.rstrip("\n"), coords)
+        text_columns: dict[str, int] = {}
+        while block := list(islice(file, int(chunk_rows))):
+            numbers = np.arange(line + 1, line + 1 + len(block), dtype=np.int64)
+            line += len(block)
+            chunk = _parse(path, layout, block, numbers, text_columns)
+            if chunk.rows:
+                yield chunk
+
+
+def read_points(
+    path: str | os.PathLike, coords: Sequence[str] = ("x", "y")
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Read a delimited point file: coordinates and numeric value columns.
+
+    The file format is that of :func:`iter_point_chunks`.  Text columns are
+    skipped with a warning naming them.  A row with a missing or non-numeric
+    coordinate is an error naming its line.
+
+    Returns
+    -------
+    points : ndarray (n, len(coords)) float64
+    values : dict of str to ndarray (n,)
+        The numeric non-coordinate columns by header name; empty cells are NaN.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "levels.txt"
+    >>> _ = path.write_text("x  y  z\\n10 20 1.25\\n11 20 1.5\\n")
+    >>> points, values = read_points(path)
+    >>> points.tolist(), values["z"].tolist()
+    ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
+    """
+    points, values, _, text_columns = _read_all(path, coords)
+    if text_columns:
+        listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
+        warnings.warn(
+            f"{path}: skipped the text column(s) {listed}: only numeric columns become fields",
+            stacklevel=2,
+        )
+    return points, values
+
+
+def _read_all(
+    path: str | os.PathLike, coords: Sequence[str]
+) -> tuple[np.ndarray, dict[str, np.ndarray], np.ndarray, dict[str, int]]:
+    """The whole point file: points, values, line numbers and text columns."""
+    points, values, numbers, text_columns = [], [], [], {}
+    for chunk in iter_point_chunks(path, coords, chunk_rows=CHUNK_ROWS):
+        points.append(chunk.points)
+        values.append(chunk.values)
+        numbers.append(chunk.line_numbers)
+        text_columns = chunk.text_columns
+    if not points:
+        raise InterpError(f"{path}: no data rows below the header")
+    return (
+        np.concatenate(points),
+        {name: np.concatenate([v[name] for v in values]) for name in values[-1]},
+        np.concatenate(numbers),
+        text_columns,
+    )
+
+
+def _check_coords(coords: Sequence[str]) -> list[str]:
+    if isinstance(coords, str) or not 1 <= len(coords) <= 3:
+        raise InterpError(
+            f"coords must name 1 to 3 coordinate columns, such as ('x', 'y'); got {coords!r}"
+        )
+    names = [str(c).strip().lower() for c in coords]
+    if len(set(names)) != len(names):
+        raise InterpError(f"coords name a column twice: {tuple(coords)}")
+    return names
+
+
+def _open_table(path: Path) -> IO[str]:
+    if not path.is_file():
+        raise InterpError(f"{path}: no such file; check the name and folder")
+    try:
+        return open(path, encoding="utf-8-sig", errors="surrogateescape")
+    except OSError as exc:
+        raise InterpError(f"{path}: cannot open the file ({exc.strerror})") from None
+
+
+def _cells(line: str, delimiter: str) -> list[str]:
+    """The cells of one line, honouring quotes in delimited (non-whitespace) files."""
+    if delimiter == " ":
+        return line.split()
+    if '"' in line:
+        return next(csv.reader([line], delimiter=delimiter))
+    return line.split(delimiter)
+
+
+def _layout(path: Path, header: str, coords: list[str]) -> _Layout:
+    delimiter = next((d for d in "\t;," if d in header), " ")
+    names = [n.strip() for n in _cells(header, delimiter)]
+    folded = [n.lower() for n in names]
+    if all(_is_number(n) for n in names):
+        raise InterpError(
+            f"{path}: the first line holds numbers, not column names; add a header row "
+            f"naming the columns, such as {','.join(coords)}"
+        )
+    where = []
+    for c in coords:
+        hits = [j for j, n in enumerate(folded) if n == c]
+        if len(hits) != 1:
+            problem = "no column" if not hits else f"{len(hits)} columns"
+            raise InterpError(
+                f"{path}: {problem} named {c!r} in the header; its columns are "
+                f"{', '.join(repr(n) for n in names)} ({DELIMITERS[delimiter]}-delimited); "
+                "name the coordinate columns with coords"
+            )
+        where += hits
+    values = [j for j, n in enumerate(names) if n and j not in where]
+    seen: dict[str, int] = {}
+    for j in values:
+        if names[j] in seen:
+            raise InterpError(
+                f"{path}: the header names two columns {names[j]!r} (columns "
+                f"{seen[names[j]] + 1} and {j + 1}); give each column its own name"
+            )
+        seen[names[j]] = j
+    return _Layout(header, names, delimiter, where, values)
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def _parse(
+    path: Path,
+    layout: _Layout,
+    block: list[str],
+    numbers: np.ndarray,
+    text_columns: dict[str, int],
+) -> PointChunk:
+    """Parse a block of raw lines (with their line breaks) into a chunk."""
+    text = "".join(block)
+    rows = text.split("\n")
+    if text.endswith("\n"):
+        rows.pop()
+    if "" in rows or any(map(str.isspace, rows)):
+        keep = np.array([bool(r.strip()) for r in rows], dtype=bool)
+        rows = [r for r, k in zip(rows, keep, strict=True) if k]
+        numbers = numbers[keep]
+    k = len(layout.names)
+    cells = _flat_cells(path, rows, layout.delimiter, k, numbers, '"' in text)
+    points = np.empty((len(rows), len(layout.coords)))
+    for axis, j in enumerate(layout.coords):
+        points[:, axis] = _coordinate(path, layout.names[j], cells[j::k], numbers)
+    values = {}
+    for j in layout.values:
+        name = layout.names[j]
+        if name in text_columns:
+            continue
+        column, bad = _to_float(cells[j::k])
+        if bad < 0:
+            values[name] = column
+        else:
+            text_columns[name] = int(numbers[bad])
+    return PointChunk(
+        points,
+        values,
+        rows,
+        numbers,
+        layout.header,
+        layout.names,
+        layout.delimiter,
+        dict(text_columns),
+    )
+
+
+def _flat_cells(
+    path: Path, rows: list[str], delimiter: str, k: int, numbers: np.ndarray, quoted: bool
+) -> list[str]:
+    """All cells of the rows, row after row: len(rows) * k strings."""
+    if delimiter == " ":
+        rows = [" ".join(r.split()) for r in rows]
+    elif quoted:
+        pairs = zip(rows, numbers, strict=True)
+        return [c for r, line in pairs for c in _fit(path, _cells(r, delimiter), k, line)]
+    counts = np.fromiter(map(str.count, rows, repeat(delimiter)), np.int64, len(rows))
+    irregular = np.flatnonzero(counts != k - 1)
+    if irregular.size:
+        rows = list(rows)
+        for i in irregular:
+            rows[i] = delimiter.join(_fit(path, rows[i].split(delimiter), k, numbers[i]))
+    return delimiter.join(rows).split(delimiter) if rows else []
+
+
+def _fit(path: Path, cells: list[str], k: int, line: int) -> list[str]:
+    """The cells of a row padded or trimmed to the header's k columns."""
+    if len(cells) < k:
+        return cells + [""] * (k - len(cells))
+    if any(c.strip() for c in cells[k:]):
+        raise InterpError(
+            f"{path}, line {line}: {len(cells)} cells but the header has {k} columns; "
+            "check the delimiter and quoting of that row"
+        )
+    return cells[:k]
+
+
+def _to_float(cells: list[str]) -> tuple[np.ndarray, int]:
+    """Cells as float64 with empty cells NaN, and the index of the first non-number (or -1)."""
+    try:
+        return np.array(cells, dtype=np.float64), -1
+    except ValueError:
+        pass
+    out = np.full(len(cells), np.nan)
+    for i, c in enumerate(cells):
+        if c.strip():
+            try:
+                out[i] = float(c)
+            except ValueError:
+                return out, i
+    return out, -1
+
+
+def _coordinate(path: Path, name: str, cells: list[str], numbers: np.ndarray) -> np.ndarray:
+    """A coordinate column, which must be finite in every row."""
+    column, bad = _to_float(cells)
+    stop = bad if bad >= 0 else len(column)
+    nonfinite = np.flatnonzero(~np.isfinite(column[:stop]))
+    i = int(nonfinite[0]) if nonfinite.size else bad
+    if i < 0:
+        return column
+    cell = cells[i].strip()
+    if not cell:
+        problem = f"the {name} coordinate is missing"
+    elif i == bad:
+        problem = f"the {name} coordinate {cell!r} is not a number"
+        if "," in cell:
+            problem += " (write decimals with a point, not a comma)"
+    else:
+        problem = f"the {name} coordinate is {cell!r}"
+    raise InterpError(f"{path}, line {numbers[i]}: {problem}; fix or remove that row")
+
+
+class TableWriter:
+    """Write a delimited table row block by row block, atomically.
+
+    Use it as a context manager: the header is written on entry, each
+    :meth:`write` appends rows, and the finished file replaces ``path`` on a
+    normal exit.  On an error the temporary file is deleted and an existing
+    ``path`` is left untouched.
+
+    Parameters
+    ----------
+    path : path-like
+    header : sequence of str
+        Column names.
+    delimiter : str
+        ``","``, ``";"``, ``"\\t"`` or ``" "``.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "out.csv"
+    >>> with TableWriter(path, ["id", "x", "z"]) as out:
+    ...     out.write(["A,0.5", "B,2"], np.array([[3.0], [np.nan]]))
+    >>> path.read_text().splitlines()
+    ['id,x,z', 'A,0.5,3', 'B,2,']
+    """
+
+    def __init__(
+        self, path: str | os.PathLike, header: Sequence[str], delimiter: str = ","
+    ) -> None:
+        if delimiter not in DELIMITERS:
+            raise InterpError(
+                f"delimiter must be one of {', '.join(map(repr, DELIMITERS))}; got {delimiter!r}"
+            )
+        names = [str(n) for n in header]
+        for n in names:
+            if delimiter in n or "\n" in n:
+                raise InterpError(
+                    f"column name {n!r} contains the delimiter {delimiter!r} or a line break; "
+                    "rename the column"
+                )
+        self.path = Path(path)
+        self.header = names
+        self.delimiter = delimiter
+        self._stack: ExitStack | None = None
+        self._file: IO[str] | None = None
+
+    def __enter__(self) -> TableWriter:
+        with ExitStack() as stack:
+            tmp = stack.enter_context(atomic_path(self.path))
+            self._file = stack.enter_context(open(tmp, "w", newline="\n", **ENCODING))
+            self._file.write(self.delimiter.join(self.header) + "\n")
+            self._stack = stack.pop_all()
+        return self
+
+    def __exit__(self, *exc_info: object) -> bool:
+        stack, self._stack, self._file = self._stack, None, None
+        return stack.__exit__(*exc_info)
+
+    def write(self, rows: Sequence[str] | None, values: object) -> None:
+        """Append rows: ``rows[i]`` (raw text, or nothing) then the cells of ``values[i]``.
+
+        Parameters
+        ----------
+        rows : sequence of str or None
+            Leading text of each row, written unchanged; None for rows made
+            of ``values`` only.
+        values : array_like (n, k) or (n,)
+            Numbers written after the row text, shortest round-trip form
+            (``3`` for 3.0); NaN is an empty cell.
+        """
+        if self._file is None:
+            raise InterpError("TableWriter.write needs an open writer: use it in a with block")
+        table = np.asarray(values, dtype=np.float64)
+        table = table.reshape(len(table), -1) if table.ndim == 1 else table
+        if table.ndim != 2 or (rows is not None and len(rows) != len(table)):
+            raise InterpError(
+                f"values must be an (n, k) array with one row per text row; got shape "
+                f"{table.shape} for {'no' if rows is None else len(rows)} text rows"
+            )
+        if not len(table):
+            return
+        k = table.shape[1]
+        cells = ["" if v != v else repr(v).removesuffix(".0") for v in table.ravel().tolist()]
+        columns = [cells[j::k] for j in range(k)]
+        if rows is not None:
+            columns.insert(0, rows)
+        self._file.write("\n".join(map(self.delimiter.join, zip(*columns, strict=True))) + "\n")
+
+
+def write_table(
+    path: str | os.PathLike,
+    header: Sequence[str],
+    columns: np.ndarray | Sequence[object],
+    delimiter: str = ",",
+) -> Path:
+    """Write a numeric table with a header row, atomically; NaN is an empty cell.
+
+    Parameters
+    ----------
+    path : path-like
+    header : sequence of str
+        One name per column.
+    columns : ndarray (n, k) or sequence of k arrays (n,)
+        A 2-D array is read as rows by columns; a list or tuple as columns.
+    delimiter : str
+        ``","``, ``";"``, ``"\\t"`` or ``" "``.
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "t.csv"
+    >>> _ = write_table(path, ["x", "v"], [np.array([0.0, 0.5]), np.array([1e-3, np.nan])])
+    >>> path.read_text().splitlines()
+    ['x,v', '0,0.001', '0.5,']
+    """
+    if isinstance(columns, np.ndarray):
+        table = np.asarray(columns, dtype=np.float64)
+    else:
+        table = np.column_stack([np.asarray(c, dtype=np.float64) for c in columns])
+    if table.ndim != 2 or table.shape[1] != len(header):
+        raise InterpError(
+            f"the table has shape {table.shape} but the header names {len(header)} columns; "
+            "pass one name per column"
+        )
+    with TableWriter(path, header, delimiter) as out:
+        for start in range(0, len(table), WRITE_ROWS):
+            out.write(None, table[start : start + WRITE_ROWS])
+    return Path(path)
+
+
+def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
+    """Read a polygon file: columns x, y with one vertex per row, in order.
+
+    An optional ``ring`` column numbers the rings: 0 for the exterior,
+    1, 2, ... for holes; the rows of a ring must be consecutive.  Without it
+    the file holds the exterior only.  A closing vertex equal to the first
+    is dropped.
+
+    Returns
+    -------
+    list of ndarray (p, 2)
+        The exterior ring first, then the holes in order of their numbers,
+        each validated by :func:`interp.polygon.as_ring`.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "site.csv"
+    >>> _ = path.write_text("x,y,ring\\n0,0,0\\n4,0,0\\n0,4,0\\n1,1,1\\n2,1,1\\n1,2,1\\n")
+    >>> [r.shape for r in read_polygon(path)]
+    [(3, 2), (3, 2)]
+    """
+    points, values, numbers, text_columns = _read_all(path, ("x", "y"))
+    key = next((n for n in [*values, *text_columns] if n.lower() == "ring"), None)
+    if key is None:
+        return [as_ring(points, name=f"{path} (lines {numbers[0]}-{numbers[-1]})")]
+    if key in text_columns:
+        raise InterpError(
+            f"{path}, line {text_columns[key]}: the ring column must hold whole numbers "
+            "(0 for the exterior, 1, 2, ... for holes)"
+        )
+    ring = values[key]
+    bad = np.flatnonzero(~(ring >= 0) | (ring != np.round(ring)))
+    if bad.size:
+        raise InterpError(
+            f"{path}, line {numbers[bad[0]]}: the ring number must be a whole number >= 0 "
+            "(0 for the exterior, 1, 2, ... for holes)"
+        )
+    starts = np.flatnonzero(np.r_[True, ring[1:] != ring[:-1]])
+    ends = np.r_[starts[1:], len(ring)]
+    ids = ring[starts].astype(np.int64)
+    seen: set[int] = set()
+    for s, r in zip(starts, ids, strict=True):
+        if r in seen:
+            raise InterpError(
+                f"{path}, line {numbers[s]}: ring {r} starts again after other rows; "
+                "keep the rows of each ring together, in order"
+            )
+        seen.add(r)
+    if 0 not in seen:
+        raise InterpError(f"{path}: no ring 0; number the exterior ring 0 and holes 1, 2, ...")
+    return [
+        as_ring(points[s:e], name=f"{path} ring {r} (lines {numbers[s]}-{numbers[e - 1]})")
+        for r, s, e in sorted(zip(ids.tolist(), starts, ends, strict=True))
+    ]
