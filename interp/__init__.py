@@ -14,11 +14,65 @@ Examples
 [1.0]
 """
 
+from interp.clip import Pieces
 from interp.errors import InterpError
 from interp.field import Field
+from interp.fit import fit
+from interp.grid import Grid, to_grid
 from interp.index import Location, locate
+from interp.integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
+from interp.io import read, read_points, read_polygon, write
 from interp.mesh import Mesh
+from interp.overlay import Overlay, overlay
+from interp.quadrature import quadrature
+from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
+from interp.resample import Profile, profile, transfer
+from interp.source import load
 from interp.triangulate import triangulate
+from interp.validate import crossvalidate
+from interp.view import show, show_difference, show_profile, show_residuals
+from interp.volume import Volumes, volume_between
 
-__all__ = ["Field", "InterpError", "Location", "Mesh", "locate", "triangulate"]
+__all__ = [
+    "Box",
+    "Field",
+    "Grid",
+    "HalfSpace",
+    "InterpError",
+    "Intersection",
+    "LevelSet",
+    "Location",
+    "Mesh",
+    "Overlay",
+    "Pieces",
+    "Polygon",
+    "Profile",
+    "Region",
+    "Volumes",
+    "crossvalidate",
+    "fit",
+    "integrate",
+    "integrate_pieces",
+    "load",
+    "locate",
+    "mean",
+    "measure",
+    "norm_l2",
+    "overlay",
+    "profile",
+    "quadrature",
+    "read",
+    "read_points",
+    "read_polygon",
+    "show",
+    "show_difference",
+    "show_profile",
+    "show_residuals",
+    "summarize",
+    "to_grid",
+    "transfer",
+    "triangulate",
+    "volume_between",
+    "write",
+]
 __version__ = "0.1.0"

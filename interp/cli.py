@@ -11,6 +11,7 @@ import argparse
 import json
 import sys
 import time
+import warnings
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -387,6 +388,18 @@ def main(argv: Sequence[str] | None = None) -> int:
     interp 0.1.0
     """
     args = build_parser().parse_args(argv)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore" if args.quiet else "always")
+        warnings.showwarning = _note
+        return _run(args)
+
+
+def _note(message, category, filename, lineno, file=None, line=None) -> None:
+    """Show a warning from the library as one line on stderr."""
+    print(f"interp: note: {' '.join(str(message).split())}", file=sys.stderr)
+
+
+def _run(args: argparse.Namespace) -> int:
     try:
         args.func(args)
     except (ValueError, OSError) as exc:

@@ -50,9 +50,9 @@ class Summary:
         lines = ["Tarrow Bend yard (invented demo scenario)"]
         for epoch, v in f["volumes"].items():
             lines.append(
-                f"  {epoch}: stockpile volume above the pad {v['above']:.1f} m3 "
-                f"(true volume of the invented piles {v['true']:.1f} m3, "
-                f"difference {v['error_percent']:+.2f}%), below {v['below']:.2f} m3"
+                f"  {epoch}: stockpile volume over the pad, net {v['net']:.1f} m3 "
+                f"(above {v['above']:.1f}, below {v['below']:.1f}; true volume of the invented "
+                f"piles {v['true']:.1f} m3, difference {v['error_percent']:+.2f}%)"
             )
         c = f["change"]
         lines.append(
@@ -120,10 +120,10 @@ def run(
     surfaces = {}
     for epoch in scenario["epochs"]:
         points, values = read_points(data / f"yard_{epoch}.csv")
-        surfaces[epoch] = fit(points, values["z"], boundary=rings[0], name="z")
+        surfaces[epoch] = fit(points, values["z"], boundary=rings[0], name=f"z_{epoch}")
         keep(to_grid(surfaces[epoch], spacing=0.5).save(out / f"yard_{epoch}_grid.vti"))
     base_points, base_values = read_points(data / "yard_base.csv")
-    base = fit(base_points, base_values["z"], boundary=rings[0], name="z")
+    base = fit(base_points, base_values["z"], boundary=rings[0], name="z_base")
     june = surfaces["2026_06"]
     keep(to_grid(june, spacing=1.0).save(out / "yard_2026_06_grid.npz"))
     keep(
@@ -131,7 +131,7 @@ def run(
             {"z": june}, data / "yard_checkpoints.csv", out / "checkpoints_2026_06.csv"
         ).path
     )
-    section = profile({"2026_03": surfaces["2026_03"], "2026_06": june}, SECTION, step=0.25)
+    section = profile(list(surfaces.values()), SECTION, step=0.25)
     keep(section.save(out / "section.csv"))
 
     volumes = {}
@@ -144,7 +144,7 @@ def run(
             "net": v.net,
             "area": v.area,
             "true": true,
-            "error_percent": 100 * (v.above - true) / true,
+            "error_percent": 100 * (v.net - true) / true,
         }
     change = volume_between(june, surfaces["2026_03"], region=site)
     residuals = crossvalidate(points, values["z"])

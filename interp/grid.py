@@ -178,8 +178,7 @@ def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]
 def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str, Field]:
     """Name the fields to grid: a Field, a list of Fields or a dict of them.
 
-    All must share one mesh.  Unnamed fields are called ``value``,
-    ``value_1``, ...
+    Unnamed fields are called ``value``, ``value_1``, ...
 
     Examples
     --------
@@ -202,11 +201,30 @@ def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str
                 name = f"{base}_{k}"
             named[name] = f
     if not named or not all(isinstance(f, Field) for f in named.values()):
-        raise InterpError("pass a Field, or a list or dict of Fields, to grid")
-    mesh = next(iter(named.values())).mesh
-    if any(f.mesh is not mesh for f in named.values()):
-        raise InterpError("all fields gridded together must share one mesh")
+        raise InterpError("pass a Field, or a list or dict of Fields")
+    gdim = {f.mesh.gdim for f in named.values()}
+    if len(gdim) > 1:
+        raise InterpError(f"fields evaluated together must be in one dimension; got {sorted(gdim)}")
     return named
+
+
+def evaluate_fields(named: dict[str, Field], points: np.ndarray) -> dict[str, np.ndarray]:
+    """Evaluate named fields at validated points, locating once per distinct mesh.
+
+    Examples
+    --------
+    >>> from interp import Field, Mesh
+    >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+    >>> evaluate_fields({"a": Field(m, [0, 1, 2.0])}, np.array([[0.5, 0.5]]))
+    {'a': array([1.5])}
+    """
+    located: dict[int, object] = {}
+    out = {}
+    for name, f in named.items():
+        if id(f.mesh) not in located:
+            located[id(f.mesh)] = f.mesh.index.locate(points)
+        out[name] = f.evaluate(located[id(f.mesh)])
+    return out
 
 
 def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
@@ -257,11 +275,12 @@ def to_grid(
     Parameters
     ----------
     fields : Field, list of Field or dict of str to Field
-        Fields on one mesh (located once for all of them).
+        Fields to grid (located once per distinct mesh).
     spacing : float or sequence of float
         Node spacing, one number or one per axis.
     bounds : sequence of float, optional
-        ``(xmin, xmax, ymin, ymax[, zmin, zmax])``; default the mesh bounds.
+        ``(xmin, xmax, ymin, ymax[, zmin, zmax])``; default the bounds of the
+        meshes.
         Nodes start at each minimum and step by ``spacing`` up to the maximum.
 
     Returns
@@ -279,8 +298,14 @@ def to_grid(
     ((3, 3), np.float64(3.0))
     """
     named = as_fields(fields)
-    mesh = next(iter(named.values())).mesh
-    axes = grid_axes(grid_bounds(mesh.bounds, bounds), grid_spacing(spacing, mesh.gdim))
+    meshes = [f.mesh for f in named.values()]
+    box = np.array(
+        [
+            np.min([m.bounds[0] for m in meshes], axis=0),
+            np.max([m.bounds[1] for m in meshes], axis=0),
+        ]
+    )
+    axes = grid_axes(grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim))
     shape = tuple(len(a) for a in axes)
     total = int(np.prod(shape))
     if total > MAX_NODES:
@@ -294,10 +319,9 @@ def to_grid(
     rows = max(1, BLOCK_NODES // max(1, total // shape[0]))
     for s in range(0, shape[0], rows):
         block = Grid((axes[0][s : s + rows],) + axes[1:], {}).points()
-        loc = mesh.index.locate(block)
         start = s * (total // shape[0])
-        for name, f in named.items():
-            out[name][start : start + len(block)] = f.evaluate(loc)
+        for name, v in evaluate_fields(named, block).items():
+            out[name][start : start + len(block)] = v
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
     units = {n: f.units for n, f in named.items() if f.units}
     return Grid(axes, fields_out, units)

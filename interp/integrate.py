@@ -167,6 +167,29 @@ def mean(field: Field, region: Region | None = None) -> float | np.ndarray:
     return _result(_integrate(field, field.mesh, parent, corners, field.mesh.order) / size)
 
 
+def summarize(field: Field, region: Region | None = None) -> dict:
+    """Integral, measure and mean of a field over its mesh or a region, clipping once.
+
+    Values are floats, or lists per component; ``mean`` is None where the
+    region does not overlap the mesh (measure 0).
+
+    Examples
+    --------
+    >>> from interp import Field, Mesh
+    >>> summarize(Field(Mesh([0.0, 2.0], [[0, 1]]), [1.0, 3.0]))
+    {'integral': 4.0, 'measure': 2.0, 'mean': 2.0}
+    """
+    _check_field(field)
+    parent, corners = _pieces(field.mesh, region)
+    size = float(simplex_geometry(corners)[0].sum())
+    total = _integrate(field, field.mesh, parent, corners, field.mesh.order)
+    return {
+        "integral": total.tolist(),
+        "measure": size,
+        "mean": (total / size).tolist() if size > 0 else None,
+    }
+
+
 def norm_l2(field: Field, region: Region | None = None) -> float | np.ndarray:
     """L2 norm sqrt(integral of f^2) of a field, per component for a vector field.
 

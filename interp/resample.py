@@ -10,7 +10,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields
+from interp.grid import as_fields, evaluate_fields
 from interp.io import write_table
 from interp.mesh import Mesh, as_points
 
@@ -78,7 +78,7 @@ def profile(
     Parameters
     ----------
     fields : Field, list of Field or dict of str to Field
-        Fields on one mesh.
+        Fields to sample (on one mesh or several).
     polyline : array_like (p, g)
         At least two vertices, in the field's coordinates.
     step : float
@@ -97,8 +97,7 @@ def profile(
     ([0.0, 1.5, 3.0], True)
     """
     named = as_fields(fields)
-    mesh = next(iter(named.values())).mesh
-    vertices = as_points(polyline, "polyline", gdim=mesh.gdim)
+    vertices = as_points(polyline, "polyline", gdim=next(iter(named.values())).mesh.gdim)
     if len(vertices) < 2 or not np.isfinite(vertices).all():
         raise InterpError("a profile line needs at least two finite vertices")
     step = float(step)
@@ -118,8 +117,7 @@ def profile(
     points = np.vstack(
         [vertices[which] + seg[which] * (local / length[which])[:, None], vertices[-1:]]
     )
-    loc = mesh.index.locate(points)
-    return Profile(distance, points, {n: f.evaluate(loc) for n, f in named.items()}, vertices)
+    return Profile(distance, points, evaluate_fields(named, points), vertices)
 
 
 def transfer(field: Field, target: Mesh, *, conservative: bool = False) -> Field:

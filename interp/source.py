@@ -192,7 +192,7 @@ def sample_file(
         writer = None
         for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
             if writer is None:
-                header = chunk.header.split(chunk.delimiter) + names
+                header = list(chunk.names) + names
                 writer = stack.enter_context(TableWriter(out, header, chunk.delimiter))
             values = np.hstack(
                 [evaluate(f, chunk.points).reshape(len(chunk.points), -1) for f in fields.values()]
