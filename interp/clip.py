@@ -33,7 +33,7 @@ import numpy as np
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import Location
-from interp.mesh import Mesh, det, simplex_geometry
+from interp.mesh import Mesh, barycentric, det, simplex_geometry
 from interp.polygon import EdgeGrid, bin_index, inside, ring_edges
 from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
 
@@ -315,10 +315,7 @@ def _bary(mesh: Mesh, parent: np.ndarray, corners: np.ndarray) -> np.ndarray:
     out = np.broadcast_to(np.eye(k), corners.shape[:1] + (k, k)).copy()
     # pieces that are their whole parent cell (corners in the same order) need no solve
     rest = np.flatnonzero(~(corners == cell).all(axis=(1, 2)))
-    edges = cell[rest, 1:] - cell[rest, :1]
-    rel = corners[rest] - cell[rest, :1]
-    lam = np.linalg.solve(edges.transpose(0, 2, 1), rel.transpose(0, 2, 1)).transpose(0, 2, 1)
-    out[rest] = np.concatenate([1.0 - lam.sum(axis=2, keepdims=True), lam], axis=2)
+    out[rest] = barycentric(cell[rest], corners[rest])
     return out
 
 

@@ -128,7 +128,7 @@ def run(
     keep(to_grid(june, spacing=1.0).save(out / "yard_2026_06_grid.npz"))
     keep(
         sample_file(
-            {"z": june}, data / "yard_checkpoints.csv", out / "checkpoints_2026_06.csv"
+            {june.name: june}, data / "yard_checkpoints.csv", out / "checkpoints_2026_06.csv"
         ).path
     )
     section = profile(list(surfaces.values()), SECTION, step=0.25)

@@ -31,7 +31,7 @@ from interp.basis import n_basis
 from interp.clip import Pieces, clip, evaluate_at
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import Mesh, inverse, simplex_geometry
+from interp.mesh import Mesh, barycentric, simplex_geometry
 from interp.quadrature import CELLS, quadrature
 from interp.regions import Region
 
@@ -299,35 +299,8 @@ def _field_at(field: Field, cell: np.ndarray, corner: np.ndarray, bary: np.ndarr
     """Field values (p, q[, c]) at the rule points ``bary`` of pieces inside cells ``cell``."""
     # barycentric coordinates are affine, so those of the piece's corners in the parent
     # carry the rule's points over
-    inner = bary @ _bary_in(field.mesh.points[field.mesh.corners[cell]], corner)
+    inner = bary @ barycentric(field.mesh.points[field.mesh.corners[cell]], corner)
     return evaluate_at(field, cell, inner)
-
-
-def _bary_in(simplex: np.ndarray, x: np.ndarray) -> np.ndarray:
-    """Barycentric coordinates (p, k, t+1) of points x (p, k, g) in simplices (p, t+1, g).
-
-    Solves x - c0 = sum_i L_i (c_i - c0) with the closed-form inverse of the
-    edge vectors; an embedded cell's edges are first completed to a basis of
-    space by normals to the cell, so its points are projected orthogonally
-    onto the cell's plane or line.
-    """
-    edges = simplex[:, 1:] - simplex[:, :1]
-    t = edges.shape[1]
-    if t < edges.shape[2]:
-        edges = np.concatenate([edges, _normals(edges)], axis=1)
-    lam = (x - simplex[:, :1]) @ inverse(edges)[:, :, :t]
-    return np.concatenate([1.0 - lam.sum(axis=2, keepdims=True), lam], axis=2)
-
-
-def _normals(edges: np.ndarray) -> np.ndarray:
-    """Vectors (p, g - t, g) completing the edges (p, t, g) of embedded cells to a basis."""
-    e = edges[:, 0]
-    if edges.shape[2] == 2:
-        return np.stack([-e[:, 1], e[:, 0]], axis=1)[:, None]
-    if edges.shape[1] == 2:
-        return np.cross(e, edges[:, 1])[:, None]
-    across = np.cross(e, np.eye(3)[np.argmin(np.abs(e), axis=1)])
-    return np.stack([across, np.cross(e, across)], axis=1)
 
 
 def _call(f: Callable[[np.ndarray], object], x: np.ndarray) -> np.ndarray:

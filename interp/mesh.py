@@ -122,6 +122,39 @@ def inverse(a: np.ndarray) -> np.ndarray:
     return rows / det(a)[:, None, None]
 
 
+def barycentric(simplex: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Barycentric coordinates (p, k, t+1) of points x (p, k, g) in simplices (p, t+1, g).
+
+    Solves x - c0 = sum_i L_i (c_i - c0) with the closed-form inverse of the
+    edge vectors; an embedded cell's edges are first completed to a basis of
+    space by normals to the cell, so its points are projected orthogonally
+    onto the cell's plane or line.
+
+    Examples
+    --------
+    >>> tri = np.array([[[0.0, 0, 0], [2, 0, 0], [0, 2, 0]]])
+    >>> barycentric(tri, np.array([[[1.0, 0.5, 3.0]]])).tolist()
+    [[[0.25, 0.5, 0.25]]]
+    """
+    edges = simplex[:, 1:] - simplex[:, :1]
+    t = edges.shape[1]
+    if t < edges.shape[2]:
+        edges = np.concatenate([edges, _normals(edges)], axis=1)
+    lam = (x - simplex[:, :1]) @ inverse(edges)[:, :, :t]
+    return np.concatenate([1.0 - lam.sum(axis=2, keepdims=True), lam], axis=2)
+
+
+def _normals(edges: np.ndarray) -> np.ndarray:
+    """Vectors (p, g - t, g) completing the edges (p, t, g) of embedded cells to a basis."""
+    e = edges[:, 0]
+    if edges.shape[2] == 2:
+        return np.stack([-e[:, 1], e[:, 0]], axis=1)[:, None]
+    if edges.shape[1] == 2:
+        return np.cross(e, edges[:, 1])[:, None]
+    across = np.cross(e, np.eye(3)[np.argmin(np.abs(e), axis=1)])
+    return np.stack([across, np.cross(e, across)], axis=1)
+
+
 def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Measure and size of simplices given by their corners (m, t+1, g).
 

@@ -1,0 +1,76 @@
+"""The demo, run as a user runs it: ``interp demo`` on the bundled data."""
+
+import json
+import shutil
+import subprocess
+
+import numpy as np
+import pytest
+from matplotlib.image import imread
+
+EXE = shutil.which("interp") or pytest.skip(
+    "the interp command is not installed", allow_module_level=True
+)
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    out = tmp_path_factory.mktemp("demo")
+    r = subprocess.run(
+        [EXE, "demo", "--out", str(out)], capture_output=True, text=True, timeout=600
+    )
+    assert r.returncode == 0, r.stderr
+    return out, r.stdout, json.loads((out / "summary.json").read_text())
+
+
+def test_stockpile_volumes_match_the_cones(demo):
+    # the invented piles are right circular cones on the pad: V = pi r^2 h / 3 (geometry of
+    # the cone). The toe ring is shot every 360/48 degrees, so the inscribed polygon loses
+    # about 1 - sin(2 pi/48) / (2 pi/48) = 0.3% of the base area; with survey noise of 1 cm
+    # the net volume should land within 1% of the cone volume.
+    _, _, summary = demo
+    for epoch, v in summary["volumes"].items():
+        assert abs(v["net"] - v["true"]) / v["true"] < 0.01, (epoch, v)
+        assert v["net"] == pytest.approx(v["above"] - v["below"], rel=1e-12)
+
+
+def test_change_between_epochs(demo):
+    _, _, summary = demo
+    v = summary["volumes"]
+    expected = v["2026_06"]["true"] - v["2026_03"]["true"]
+    assert abs(summary["change"]["net"] - expected) / expected < 0.02
+
+
+def test_bracket_mean_temperature_is_exact(demo):
+    # the temperature is quadratic, so the P2 mesh carries it exactly and its mean is the
+    # closed-form mean written by scripts/make_demo_data.py
+    _, _, summary = demo
+    b = summary["bracket"]
+    assert b["mean_temperature"] == pytest.approx(b["exact_mean_temperature"], rel=1e-10)
+    assert b["volume"] == pytest.approx(0.06 * 0.06 * 0.04 + 0.06 * 0.06 * 0.02, rel=1e-12)
+
+
+def test_residuals_reflect_survey_noise(demo):
+    # the survey noise is 1 cm; leave-one-out residuals on a smooth pad and cone surface
+    # must be of that order, not of the pile height
+    _, _, summary = demo
+    assert 0.005 < summary["crossvalidation"]["rms"] < 0.1
+
+
+def test_outputs_and_pictures(demo):
+    out, stdout, _ = demo
+    assert "licensed practice" in stdout
+    grid = np.load(out / "yard_2026_06_grid.npz")
+    assert grid["z_2026_06"].shape == (len(grid["x"]), len(grid["y"]))
+    lines = (out / "checkpoints_2026_06.csv").read_text().splitlines()
+    assert lines[0] == "name,x,y,z_2026_06" and len(lines) == 6
+    for name in (
+        "yard_2026_06",
+        "change_march_june",
+        "section",
+        "residuals_2026_06",
+        "bracket_temperature",
+    ):
+        png = out / f"{name}.png"
+        img = imread(png)
+        assert img.shape[0] > 200 and img.std() > 0.02, name
