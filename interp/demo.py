@@ -17,8 +17,6 @@ import json
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
-
 from interp.errors import InterpError
 from interp.field import Field
 from interp.fit import fit
@@ -28,7 +26,7 @@ from interp.io import atomic_path, read, read_points, read_polygon
 from interp.regions import Polygon
 from interp.resample import profile
 from interp.source import sample_file
-from interp.validate import crossvalidate
+from interp.validate import crossvalidate, residual_summary
 from interp.volume import volume_between
 
 #: the bundled demo data, beside the package in a source checkout
@@ -148,8 +146,6 @@ def run(
         }
     change = volume_between(june, surfaces["2026_03"], region=site)
     residuals = crossvalidate(points, values["z"])
-    ok = np.isfinite(residuals)
-    worst = np.argsort(-np.abs(np.where(ok, residuals, 0)))[:5]
 
     mesh, fields = read(data / "bracket.vtu")
     temp = Field(mesh, fields["temperature"], name="temperature", units="C")
@@ -163,16 +159,7 @@ def run(
             "net": change.net,
             "area": change.area,
         },
-        "crossvalidation": {
-            "points": int(ok.sum()),
-            "rms": float(np.sqrt(np.mean(residuals[ok] ** 2))),
-            "mean": float(residuals[ok].mean()),
-            "max_abs": float(np.abs(residuals[ok]).max()),
-            "worst": [
-                {"row": int(i), "point": points[i].tolist(), "residual": float(residuals[i])}
-                for i in worst
-            ],
-        },
+        "crossvalidation": residual_summary(points, residuals),
         "bracket": {
             "volume": volume,
             "mean_temperature": mean_t,

@@ -8,7 +8,7 @@ outside the mesh.
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -16,6 +16,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
+from interp.index import CellIndex, Location
 from interp.io import atomic_path, write_table
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
@@ -208,21 +209,23 @@ def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str
     return named
 
 
-def evaluate_fields(named: dict[str, Field], points: np.ndarray) -> dict[str, np.ndarray]:
-    """Evaluate named fields at validated points, locating once per distinct mesh.
+def evaluate_fields(
+    named: dict[str, Field], where: Callable[[CellIndex], Location]
+) -> dict[str, np.ndarray]:
+    """Evaluate named fields, locating once per distinct mesh with ``where(index)``.
 
     Examples
     --------
     >>> from interp import Field, Mesh
     >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
-    >>> evaluate_fields({"a": Field(m, [0, 1, 2.0])}, np.array([[0.5, 0.5]]))
+    >>> evaluate_fields({"a": Field(m, [0, 1, 2.0])}, lambda ix: ix.locate(np.array([[.5, .5]])))
     {'a': array([1.5])}
     """
-    located: dict[int, object] = {}
+    located: dict[int, Location] = {}
     out = {}
     for name, f in named.items():
         if id(f.mesh) not in located:
-            located[id(f.mesh)] = f.mesh.index.locate(points)
+            located[id(f.mesh)] = where(f.mesh.index)
         out[name] = f.evaluate(located[id(f.mesh)])
     return out
 
@@ -318,10 +321,10 @@ def to_grid(
     }
     rows = max(1, BLOCK_NODES // max(1, total // shape[0]))
     for s in range(0, shape[0], rows):
-        block = Grid((axes[0][s : s + rows],) + axes[1:], {}).points()
+        block = (axes[0][s : s + rows],) + axes[1:]
         start = s * (total // shape[0])
-        for name, v in evaluate_fields(named, block).items():
-            out[name][start : start + len(block)] = v
+        for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
+            out[name][start : start + len(v)] = v
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
     units = {n: f.units for n, f in named.items() if f.units}
     return Grid(axes, fields_out, units)

@@ -105,6 +105,10 @@ class CellIndex:
         i1 = np.empty_like(i0)
         scaled = (mesh.points - self.center) / self.scale
         _cell_maps(scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1)
+        self.box = (
+            np.stack([scaled[mesh.corners].min(axis=1), scaled[mesh.corners].max(axis=1)], axis=1)
+            + np.array([-pad, pad])[:, None]
+        )
         self.start, self.members = _bucket_cells(i0, i1, self.shape)
 
     @property
@@ -121,6 +125,27 @@ class CellIndex:
         inv = self.affine[cells, :g].transpose(0, 2, 1)
         g0 = -inv.sum(axis=1, keepdims=True)
         return np.concatenate([g0, inv], axis=1) / self.scale
+
+    def locate_grid(self, axes: tuple[np.ndarray, ...]) -> Location:
+        """Locate the nodes of a regular grid (the C-order points of its axes).
+
+        Equivalent to :meth:`locate` on ``Grid.points()`` (same containment
+        and tie rules, same barycentric coordinates), but it scans each cell's
+        own grid nodes instead of searching for each node's cell, which is
+        several times faster on a grid.
+        """
+        g = len(axes)
+        scaled = tuple(
+            np.ascontiguousarray((a - self.center[k]) / self.scale) for k, a in enumerate(axes)
+        )
+        shape = np.array([len(a) for a in axes] + [1] * (3 - g), dtype=np.int64)
+        full = scaled + tuple(np.zeros(1) for _ in range(3 - g))
+        n = int(np.prod(shape))
+        cells = np.full(n, -1, dtype=np.int64)
+        bary = np.full((n, g + 1), np.nan)
+        best = np.full(n, -np.inf)
+        _scan_grid(*full, shape, g, self.box, self.affine, cells, bary, best)
+        return Location(cells, bary)
 
     def locate(self, points: np.ndarray) -> Location:
         """Locate validated (n, g) points; NaN rows are outside."""
@@ -250,6 +275,46 @@ def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no co
                     bary[p, b] = lam[b]
                 if mn > TIE:
                     break  # strictly inside: cells do not overlap, no other can be deeper
+
+
+@numba.njit(cache=True, nogil=True)
+def _scan_grid(ax, ay, az, shape, g, box, affine, cells, bary, best):  # pragma: no cover
+    lo = np.zeros(3, dtype=np.int64)
+    hi = np.zeros(3, dtype=np.int64)
+    axes = (ax, ay, az)
+    x = np.zeros(3)
+    lam = np.empty(g + 1)
+    for c in range(affine.shape[0]):
+        for a in range(3):
+            if a < g:
+                lo[a] = np.searchsorted(axes[a], box[c, 0, a])
+                hi[a] = np.searchsorted(axes[a], box[c, 1, a], side="right")
+            else:
+                lo[a], hi[a] = 0, 1
+        for i in range(lo[0], hi[0]):
+            x[0] = ax[i]
+            for j in range(lo[1], hi[1]):
+                x[1] = ay[j]
+                for k in range(lo[2], hi[2]):
+                    x[2] = az[k]
+                    s = 0.0
+                    mn = np.inf
+                    for b in range(g):
+                        v = affine[c, g, b]
+                        for a in range(g):
+                            v += x[a] * affine[c, a, b]
+                        lam[b + 1] = v
+                        s += v
+                        mn = min(mn, v)
+                    lam[0] = 1.0 - s
+                    mn = min(mn, lam[0])
+                    p = (i * shape[1] + j) * shape[2] + k
+                    # cells come in ascending order, so a tie keeps the lower index
+                    if mn >= -TOLERANCE and (cells[p] < 0 or mn > best[p] + TIE):
+                        best[p] = mn
+                        cells[p] = c
+                        for b in range(g + 1):
+                            bary[p, b] = lam[b]
 
 
 def locate(mesh: Mesh, query: object) -> Location:

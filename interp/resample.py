@@ -117,7 +117,7 @@ def profile(
     points = np.vstack(
         [vertices[which] + seg[which] * (local / length[which])[:, None], vertices[-1:]]
     )
-    return Profile(distance, points, evaluate_fields(named, points), vertices)
+    return Profile(distance, points, evaluate_fields(named, lambda ix: ix.locate(points)), vertices)
 
 
 def transfer(field: Field, target: Mesh, *, conservative: bool = False) -> Field:

@@ -94,3 +94,18 @@ def test_bad_grid_arguments():
         to_grid(f, spacing=1e-5)
     with pytest.raises(InterpError, match="cannot save a grid"):
         to_grid(f, spacing=0.5).save("grid.txt")
+
+
+@pytest.mark.parametrize("d", [1, 2, 3])
+def test_grid_scan_equals_point_location(rng, d):
+    # the grid path scans each cell's own nodes; it must give exactly what locating every
+    # node one by one gives (same cells, same barycentric coordinates, same values)
+    pts = rng.random((200, d))
+    mesh = interp.triangulate(pts)
+    f = Field(mesh, np.sin(5 * pts.sum(axis=1)))
+    g = to_grid(f, spacing=0.05 if d < 3 else 0.1)
+    loc_grid = mesh.index.locate_grid(g.axes)
+    loc = mesh.locate(g.points())
+    np.testing.assert_array_equal(loc_grid.cells, loc.cells)
+    np.testing.assert_array_equal(loc_grid.bary, loc.bary)
+    np.testing.assert_array_equal(g.values.ravel(), f(g.points()))
