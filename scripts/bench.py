@@ -106,7 +106,122 @@ def run_child(case: str) -> None:
     print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024)
 
 
-SECTIONS = {"locate": bench_locate}
+def bench_grid(small: bool) -> None:
+    """Scattered points onto a regular grid, against scipy.interpolate.griddata."""
+    from scipy.interpolate import griddata
+
+    n, side = (100_000, 500) if small else (1_000_000, 2000)
+    rng = np.random.default_rng(7)
+    pts = rng.random((n, 2))
+    vals = np.sin(6 * pts[:, 0]) * np.cos(4 * pts[:, 1])
+    axis = np.linspace(0.0, 1.0, side)
+    xx, yy = np.meshgrid(axis, axis, indexing="ij")
+    print(f"{n:,} points onto a {side} x {side} grid")
+    t_ref = best_of(lambda: griddata(pts, vals, (xx, yy), method="linear"), 1)
+    spacing = 1.0 / (side - 1)
+    bounds = (0.0, 1.0, 0.0, 1.0)
+
+    def ours():
+        field = interp.Field(interp.triangulate(pts), vals)
+        return interp.to_grid(field, spacing=spacing, bounds=bounds)
+
+    t_ours = best_of(ours, 1)
+    row("end to end (triangulate + evaluate)", t_ours, t_ref)
+    tri = Delaunay(pts)
+    ref = LinearNDInterpolator(tri, vals)
+    field = interp.Field(interp.Mesh(pts, tri.simplices), vals)
+    field(pts[:1])  # the index is built once, like scipy's triangulation
+    t_ref = best_of(lambda: ref(xx, yy), 1)
+    t_ours = best_of(lambda: interp.to_grid(field, spacing=spacing, bounds=bounds), 3)
+    row("evaluation on the grid, mesh built", t_ours, t_ref)
+    grid = interp.to_grid(field, spacing=spacing, bounds=bounds)
+    np.testing.assert_allclose(grid.values, ref(xx, yy), atol=1e-12, equal_nan=True)
+
+
+def bench_sample(small: bool) -> None:
+    """Peak memory of ``interp sample`` as the query file grows (it streams in chunks)."""
+    import shutil
+    import tempfile
+    from pathlib import Path
+
+    exe = shutil.which("interp")
+    sizes = (200_000, 800_000) if small else (2_000_000, 10_000_000)
+    rng = np.random.default_rng(3)
+    with tempfile.TemporaryDirectory() as tmp:
+        d = Path(tmp)
+        xy = rng.random((20_000, 2)) * 100
+        interp.io.write_table(
+            d / "survey.csv", ["x", "y", "z"], np.column_stack([xy, np.sin(xy[:, 0] / 7) * 3 + 50])
+        )
+        for rows in sizes:
+            q = d / f"q{rows}.csv"
+            with open(q, "w") as fh:
+                fh.write("id,x,y\n")
+                for s in range(0, rows, 1_000_000):
+                    k = min(1_000_000, rows - s)
+                    p = rng.random((k, 2)) * 100
+                    ids = np.arange(s, s + k)
+                    fh.write(
+                        "".join(f"{i},{x:.3f},{y:.3f}\n" for i, (x, y) in zip(ids, p, strict=True))
+                    )
+            probe = (
+                "import resource, subprocess, sys; subprocess.run(sys.argv[1:], check=True); "
+                "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024)"
+            )
+            t = time.perf_counter()
+            out = subprocess.run(
+                [
+                    sys.executable,
+                    "-c",
+                    probe,
+                    exe,
+                    "sample",
+                    "-q",
+                    str(d / "survey.csv"),
+                    str(q),
+                    "-o",
+                    str(d / "out.csv"),
+                ],
+                capture_output=True,
+                text=True,
+                check=True,
+            )
+            dt = time.perf_counter() - t
+            print(
+                f"  interp sample, {rows:>11,} rows: {dt:7.1f} s, "
+                f"{rows / dt:12,.0f} rows/s, peak resident set {float(out.stdout):8.1f} MiB"
+            )
+
+
+def bench_clip_section(small: bool) -> None:
+    """Clip a large mesh by a concave polygon and integrate, against shapely."""
+    from bench_clip import bench_clip
+
+    bench_clip(50_000 if small else 1_000_000, 1000)
+
+
+def bench_parallel_section(small: bool) -> None:
+    """Throughput on two local worker processes against one."""
+    from bench_parallel import bench_parallel
+
+    bench_parallel(2_000_000 if small else 20_000_000)
+
+
+def bench_crossvalidate_section(small: bool) -> None:
+    """Leave-one-out residuals on scattered points."""
+    from bench_validate import bench_crossvalidate
+
+    bench_crossvalidate(10_000 if small else 100_000)
+
+
+SECTIONS = {
+    "locate": bench_locate,
+    "grid": bench_grid,
+    "clip": bench_clip_section,
+    "crossvalidate": bench_crossvalidate_section,
+    "sample": bench_sample,
+    "parallel": bench_parallel_section,
+}
 
 
 def main() -> None:
