@@ -1,0 +1,448 @@
+"""Fitting scattered data: a P1 or P2 field on the Delaunay triangulation of the points.
+
+The linear (P1) fit takes the data as node values of the triangulation.  The
+quadratic (P2) fit keeps the data at the corners and sets each edge midpoint
+from gradients recovered at the two end nodes:
+
+* at every node a full quadratic (3, 6 or 10 coefficients in 1D, 2D, 3D) is
+  fitted by least squares to the node and its neighbours in the
+  triangulation (the 1-ring; the 2-ring where the 1-ring has fewer points
+  than coefficients or the fit is ill-conditioned), in coordinates centred
+  on the node and scaled by the farthest neighbour, with columns scaled to
+  unit length and solved by Householder QR with column pivoting;
+* the midpoint of edge (a, b) gets
+
+      m = (v_a + v_b) / 2 + (g_a - g_b) . (x_b - x_a) / 8.
+
+  Along the edge a quadratic is f(t) = v_a + t f'(0) + t^2 c with
+  f'(t) = (g . (x_b - x_a)) at the ends, so 2 c = f'(1) - f'(0), f(1) = v_a +
+  f'(0) + c and f(1/2) = (f(0) + f(1)) / 2 - c / 4, which is the formula: the
+  midpoint of any quadratic along the edge when the gradients are exact.
+
+Where even the 2-ring cannot carry a quadratic (tiny data sets, a node whose
+2-ring is nearly on a conic) the gradient comes from a linear least-squares
+fit over the 2-ring; the P2 field there reproduces linear data only.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+
+from interp.errors import InterpError
+from interp.field import Field
+from interp.mesh import Mesh, as_points, check_finite
+from interp.triangulate import merge_duplicates, triangulate
+
+#: smallest ratio of the last to the first pivot of the column-scaled design
+#: matrix for which a quadratic fit is accepted (below it: the 2-ring, then linear).
+MIN_RCOND = 1e-3
+#: the same for the linear fallback fit, which only has to be of full rank.
+MIN_RCOND_LINEAR = 1e-14
+
+
+@dataclass(frozen=True)
+class Samples:
+    """Validated scattered data, NaN rows dropped and duplicate points merged.
+
+    Attributes
+    ----------
+    valid : ndarray (n,) bool
+        Input rows whose values are all finite.
+    unique : ndarray (u, d)
+        Distinct points of the valid rows, in first-seen order.
+    inverse : ndarray (n,) int64
+        Row of ``unique`` for each input row, -1 for rows dropped.
+    values : ndarray (n, c)
+        The input values (NaN rows included).
+    mean : ndarray (u, c)
+        Average of the values of the rows merged into each distinct point.
+    count : ndarray (u,) int64
+        Number of rows merged into each distinct point.
+    scalar : bool
+        True when the input values were one per point (shape (n,)).
+    """
+
+    valid: np.ndarray
+    unique: np.ndarray
+    inverse: np.ndarray
+    values: np.ndarray
+    mean: np.ndarray
+    count: np.ndarray
+    scalar: bool
+
+    def shaped(self, values: np.ndarray) -> np.ndarray:
+        """``values`` (k, c) as the caller passed them: (k,) for scalar data."""
+        return values[:, 0] if self.scalar else values
+
+
+def samples(points: object, values: object, order: int) -> Samples:
+    """Validate scattered data for :func:`fit` and :func:`interp.crossvalidate`.
+
+    Warns with the number of rows dropped for NaN values and of duplicate
+    points merged (their values averaged).
+
+    Examples
+    --------
+    >>> with warnings.catch_warnings(record=True) as caught:
+    ...     warnings.simplefilter("always")
+    ...     s = samples([[0.0, 0], [1, 0], [0, 0]], [1.0, 2.0, 3.0], 1)
+    >>> str(caught[0].message)
+    '1 duplicate point(s) merged, their values averaged'
+    >>> s.unique.tolist(), s.mean[:, 0].tolist(), s.count.tolist()
+    ([[0.0, 0.0], [1.0, 0.0]], [2.0, 2.0], [2, 1])
+    """
+    if order not in (1, 2):
+        raise InterpError(f"order must be 1 (linear, P1) or 2 (quadratic, P2); got {order!r}")
+    pts = as_points(points)
+    check_finite(pts)
+    vals = np.asarray(values, dtype=np.float64)
+    if vals.ndim not in (1, 2) or vals.shape[0] != pts.shape[0]:
+        raise InterpError(
+            f"values must have one row per point: {pts.shape[0]} points but values of "
+            f"shape {vals.shape} ({vals.shape[0] if vals.ndim else 0} rows); pass an (n,) "
+            "or (n, c) array"
+        )
+    scalar = vals.ndim == 1
+    vals = vals.reshape(len(vals), -1)
+    if np.isinf(vals).any():
+        row = int(np.flatnonzero(np.isinf(vals).any(axis=1))[0])
+        raise InterpError(
+            f"values are infinite at row {row}; use NaN to mark missing values (those "
+            "points are dropped)"
+        )
+    valid = ~np.isnan(vals).any(axis=1)
+    if not valid.all():
+        warnings.warn(
+            f"{int((~valid).sum())} point(s) with NaN values dropped before fitting",
+            stacklevel=3,
+        )
+    unique, inv = merge_duplicates(pts[valid])
+    if len(unique) < valid.sum():
+        warnings.warn(
+            f"{int(valid.sum()) - len(unique)} duplicate point(s) merged, their values averaged",
+            stacklevel=3,
+        )
+    count = np.bincount(inv, minlength=len(unique))
+    mean = (
+        np.stack(
+            [np.bincount(inv, weights=col, minlength=len(unique)) for col in vals[valid].T], axis=1
+        )
+        / count[:, None]
+    )
+    inverse = np.full(len(pts), -1, dtype=np.int64)
+    inverse[valid] = inv
+    return Samples(valid, unique, inverse, vals, mean, count, scalar)
+
+
+def fit(
+    points: object,
+    values: object,
+    *,
+    order: int = 1,
+    max_edge: float | None = None,
+    boundary: object | None = None,
+    name: str | None = None,
+) -> Field:
+    """A field through scattered data: P1 or P2 on the Delaunay triangulation of the points.
+
+    Parameters
+    ----------
+    points : array_like (n, d)
+        Measurement positions, d in 1, 2, 3.  Points at identical coordinates
+        are merged into one node carrying the mean of their values, with a
+        warning giving how many were merged.
+    values : array_like (n,) or (n, c)
+        One value, or c components, per point.  Rows holding a NaN are
+        dropped with a warning giving how many; infinite values are refused.
+    order : {1, 2}
+        1: the data are the node values of a linear (P1) field.  2: a
+        quadratic (P2) field on ``mesh.elevate()``, corners at the data and
+        edge midpoints from gradients recovered by local least-squares
+        quadratic fits (see the module notes); data sampled from any
+        quadratic polynomial are reproduced exactly inside the hull.
+    max_edge, boundary
+        Masks passed to :func:`interp.triangulate`: cells with an edge longer
+        than ``max_edge``, or (2D) with the centroid outside the ``boundary``
+        polygon, are removed.
+
+    Returns
+    -------
+    Field
+        NaN outside the convex hull of the points and in masked cells: no
+        extrapolation is done.  Near the hull the gradient fits are one-sided
+        (they use the neighbours there are).  The gradient fits see only the
+        edges of the cells kept by the masks, so data across a masked gap do
+        not shape each other; a point left in no cell by the masks is a node
+        that no cell uses.
+
+    Notes
+    -----
+    A P2 surface can overshoot the data between points where the data
+    change sharply.  Check it with :func:`interp.crossvalidate` before it is
+    used for design or for quantities paid for; the fitted surface does not
+    replace the checks required by local codes and licensed survey practice.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> import interp
+    >>> pts = np.random.default_rng(0).random((60, 2))
+    >>> z = 1 + pts[:, 0] ** 2 - pts[:, 0] * pts[:, 1]
+    >>> f = interp.fit(pts, z, order=2, name="z")
+    >>> f.mesh.cell_type
+    'triangle6'
+    >>> round(float(f([[0.5, 0.5]])[0]), 10)  # 1 + 0.25 - 0.25
+    1.0
+    """
+    data = samples(points, values, order)
+    mesh = triangulate(data.unique, max_edge=max_edge, boundary=boundary)
+    if order == 1:
+        return Field(mesh, data.shaped(data.mean), name=name)
+    ptr, idx = neighbours(mesh)
+    grad = recover_gradients(mesh.points, data.mean, ptr, idx)
+    edges = mesh.edges()[0]
+    a, b = edges.T
+    mids = midpoint(data.mean[a], data.mean[b], grad[a], grad[b], mesh.points[b] - mesh.points[a])
+    return Field(mesh.elevate(), data.shaped(np.vstack([data.mean, mids])), name=name)
+
+
+def neighbours(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
+    """Neighbours of every node along the mesh's edges, as compressed sparse rows.
+
+    Returns
+    -------
+    ptr : ndarray (n_nodes + 1,) int64
+    idx : ndarray int64
+        The neighbours of node i are ``idx[ptr[i]:ptr[i + 1]]``, ascending.
+
+    Examples
+    --------
+    >>> m = Mesh([[0.0, 0], [1, 0], [0, 1], [1, 1]], [[0, 1, 2], [1, 3, 2]])
+    >>> ptr, idx = neighbours(m)
+    >>> idx[ptr[1]:ptr[2]].tolist()
+    [0, 2, 3]
+    """
+    edges, n = mesh.edges()[0], mesh.n_nodes
+    key = np.sort(np.concatenate([edges[:, 0] * n + edges[:, 1], edges[:, 1] * n + edges[:, 0]]))
+    ptr = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.bincount(key // n, minlength=n), out=ptr[1:])
+    return ptr, key % n
+
+
+def recover_gradients(
+    points: np.ndarray, values: np.ndarray, ptr: np.ndarray, idx: np.ndarray
+) -> np.ndarray:
+    """Gradients at every node from local least-squares quadratic fits.
+
+    Parameters
+    ----------
+    points : ndarray (n, d)
+    values : ndarray (n, c)
+    ptr, idx : ndarray int64
+        Neighbour lists, see :func:`neighbours`.
+
+    Returns
+    -------
+    ndarray (n, d, c)
+        NaN at nodes without neighbours.
+
+    Examples
+    --------
+    >>> x = np.array([[0.0], [1.0], [3.0]])
+    >>> ptr, idx = np.array([0, 1, 3, 4]), np.array([1, 0, 2, 1])
+    >>> (recover_gradients(x, x**2, ptr, idx)[:, 0, 0].round(12) + 0.0).tolist()
+    [0.0, 2.0, 6.0]
+    """
+    grad = np.empty(points.shape + values.shape[1:])
+    no_override = np.empty(0, dtype=np.int64)
+    _recover(points, values, ptr, idx, no_override, np.zeros(1, dtype=np.int64), no_override, grad)
+    return grad
+
+
+def midpoint(
+    va: np.ndarray, vb: np.ndarray, ga: np.ndarray, gb: np.ndarray, dx: np.ndarray
+) -> np.ndarray:
+    """Value at the middle of edges from the end values and gradients.
+
+    ``(va + vb) / 2 + (ga - gb) . dx / 8`` with ``dx = xb - xa``: exact for a
+    quadratic along the edge when the gradients are exact.
+
+    Parameters
+    ----------
+    va, vb : ndarray (..., c)
+    ga, gb : ndarray (..., d, c)
+    dx : ndarray (..., d)
+
+    Examples
+    --------
+    >>> # f = x**2 on [1, 3]: f(2) = 4
+    >>> midpoint(np.array([[1.0]]), np.array([[9.0]]), np.array([[[2.0]]]),
+    ...          np.array([[[6.0]]]), np.array([[2.0]])).tolist()
+    [[4.0]]
+    """
+    return 0.5 * (va + vb) + np.einsum("...g,...gc->...c", dx, ga - gb) / 8.0
+
+
+@numba.njit(cache=True, nogil=True)
+def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no cover
+    """Gradient at every node of ``x`` into ``grad`` (n, d, c)."""
+    n = x.shape[0]
+    mark = np.full(n, -1, dtype=np.int64)
+    members = np.empty(n, dtype=np.int64)
+    for i in range(n):
+        node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
+
+
+@numba.njit(cache=True, nogil=True)
+def node_gradient(
+    node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
+):  # pragma: no cover
+    """Recovered gradient (d, c) at ``node``: quadratic fit on the 1-ring, else 2-ring, else linear.
+
+    The neighbours of vertex q are ``over_idx[over_ptr[j]:over_ptr[j + 1]]`` when
+    ``over_node[j] == q`` and ``idx[ptr[q]:ptr[q + 1]]`` otherwise.  ``mark``
+    (n,) and ``members`` (n,) are scratch; ``stamp`` must differ from every
+    value already in ``mark``.
+    """
+    members[0] = node
+    mark[node] = stamp
+    count = _add_ring(node, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, 1)
+    if count == 1:
+        grad[:] = np.nan
+        return
+    ring1 = count
+    if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+        return
+    for r in range(1, ring1):
+        count = _add_ring(
+            members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
+        )
+    if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+        return
+    if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
+        grad[:] = np.nan
+
+
+@numba.njit(cache=True, nogil=True)
+def _add_ring(
+    q, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
+):  # pragma: no cover
+    """Append the neighbours of ``q`` not yet marked to ``members``; the new count."""
+    lo, hi, src = ptr[q], ptr[q + 1], idx
+    for j in range(over_node.size):
+        if over_node[j] == q:
+            lo, hi, src = over_ptr[j], over_ptr[j + 1], over_idx
+            break
+    for r in range(lo, hi):
+        b = src[r]
+        if mark[b] != stamp:
+            mark[b] = stamp
+            members[count] = b
+            count += 1
+    return count
+
+
+@numba.njit(cache=True, nogil=True)
+def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
+    """Least-squares polynomial of ``degree`` through the ``members``, centred at ``node``.
+
+    Writes its gradient at the node into ``grad`` (d, c) when the fit is
+    accepted (pivot ratio >= MIN_RCOND, or any full-rank fit for degree 1) and
+    returns the pivot ratio (0 when there are fewer points than coefficients).
+    """
+    d = x.shape[1]
+    nc = d + 1 if degree == 1 else (d + 1) * (d + 2) // 2
+    if count < nc:
+        return 0.0
+    h = 0.0
+    for r in range(count):
+        s = 0.0
+        for k in range(d):
+            s += (x[members[r], k] - x[node, k]) ** 2
+        h = max(h, s)
+    h = np.sqrt(h)
+    a = np.empty((count, nc))
+    b = np.empty((count, v.shape[1]))
+    for r in range(count):
+        j = members[r]
+        a[r, 0] = 1.0
+        for k in range(d):
+            a[r, 1 + k] = (x[j, k] - x[node, k]) / h
+        col = 1 + d
+        if degree == 2:
+            for k in range(d):
+                for m in range(k, d):
+                    a[r, col] = a[r, 1 + k] * a[r, 1 + m]
+                    col += 1
+        b[r] = v[j]
+    norm = np.empty(nc)
+    for k in range(nc):
+        norm[k] = np.sqrt(np.sum(a[:, k] ** 2))
+        if norm[k] > 0:
+            a[:, k] /= norm[k]
+    coef = np.empty((nc, v.shape[1]))
+    min_rcond = MIN_RCOND if degree == 2 else MIN_RCOND_LINEAR
+    rcond = _lstsq(a, b, coef, min_rcond)
+    if rcond >= min_rcond:
+        for k in range(d):
+            grad[k] = coef[1 + k] / (norm[1 + k] * h)
+    return rcond
+
+
+@numba.njit(cache=True, nogil=True)
+def _lstsq(a, b, out, min_rcond):  # pragma: no cover
+    """Least squares ``a @ out ~ b`` by Householder QR with column pivoting.
+
+    ``a`` (m, n) and ``b`` (m, c) are overwritten.  Returns |R[n-1, n-1]| /
+    |R[0, 0]|; ``out`` (n, c) is solved only when that ratio is >= min_rcond.
+    """
+    m, n = a.shape
+    perm = np.arange(n)
+    w = np.empty(m)
+    for j in range(n):
+        best, best_norm = j, -1.0
+        for k in range(j, n):
+            s = 0.0
+            for r in range(j, m):
+                s += a[r, k] ** 2
+            if s > best_norm:
+                best, best_norm = k, s
+        if best_norm == 0.0:
+            return 0.0
+        for r in range(m):
+            a[r, j], a[r, best] = a[r, best], a[r, j]
+        perm[j], perm[best] = perm[best], perm[j]
+        alpha = -np.sqrt(best_norm) if a[j, j] > 0 else np.sqrt(best_norm)
+        ww = 0.0
+        for r in range(j, m):
+            w[r] = a[r, j]
+        w[j] -= alpha
+        for r in range(j, m):
+            ww += w[r] ** 2
+        _reflect(w, ww, j, a, j)
+        _reflect(w, ww, j, b, 0)
+    rcond = abs(a[n - 1, n - 1]) / abs(a[0, 0])
+    if rcond >= min_rcond:
+        for j in range(n - 1, -1, -1):
+            for c in range(b.shape[1]):
+                s = b[j, c]
+                for k in range(j + 1, n):
+                    s -= a[j, k] * out[perm[k], c]
+                out[perm[j], c] = s / a[j, j]
+    return rcond
+
+
+@numba.njit(cache=True, nogil=True)
+def _reflect(w, ww, j, a, first):  # pragma: no cover
+    """Apply the Householder reflection I - 2 w w^T / ww (rows j:) to columns first: of a."""
+    for k in range(first, a.shape[1]):
+        s = 0.0
+        for r in range(j, a.shape[0]):
+            s += w[r] * a[r, k]
+        s *= 2.0 / ww
+        for r in range(j, a.shape[0]):
+            a[r, k] -= s * w[r]

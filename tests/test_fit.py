@@ -1,0 +1,228 @@
+"""Fitting scattered data: P1 and P2 fields, gradient recovery, masks, data clean-up."""
+
+import numpy as np
+import pytest
+import shapely
+import sympy
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from interp import Field, InterpError, fit, triangulate
+from interp.fit import midpoint
+
+
+def quadratic(rng, d):
+    """A random quadratic polynomial in d variables, and its gradient."""
+    c0, b, a = rng.normal(), rng.normal(size=d), rng.normal(size=(d, d))
+    a = a + a.T
+
+    def f(x):
+        return c0 + x @ b + 0.5 * np.einsum("ni,ij,nj->n", x, a, x)
+
+    def grad(x):
+        return b + x @ a
+
+    return f, grad
+
+
+@pytest.mark.parametrize(("d", "n"), [(1, 40), (2, 200), (3, 150)])
+def test_p2_reproduces_quadratics_inside_the_hull(rng, d, n):
+    # P2 Lagrange interpolation reproduces quadratics when the midpoint values are exact,
+    # and a least-squares quadratic fit to exact quadratic data is exact (defining
+    # properties); the closed-form polynomial is the reference.
+    pts = rng.random((n, d))
+    f, grad = quadratic(rng, d)
+    field = fit(pts, f(pts), order=2)
+    assert field.mesh.order == 2
+    q = rng.random((3000, d))
+    got = field(q)
+    inside = np.isfinite(got)
+    assert inside.mean() > 0.7
+    scale = np.abs(f(q)).max()
+    np.testing.assert_allclose(got[inside], f(q)[inside], rtol=0, atol=1e-10 * scale)
+    # the P2 gradient of a reproduced quadratic is its exact gradient
+    np.testing.assert_allclose(
+        field.gradient(q[inside]), grad(q[inside]), rtol=0, atol=1e-8 * scale
+    )
+
+
+def test_p2_reproduces_quadratics_in_projected_coordinates(rng):
+    # survey coordinates far from the origin: a quadratic in offsets from a site origin
+    origin = np.array([512_345.0, 6_123_456.0])
+    pts = origin + 100.0 * rng.random((300, 2))
+    f, _ = quadratic(rng, 2)
+    z = f((pts - origin) / 100.0)
+    field = fit(pts, z, order=2)
+    q = origin + 100.0 * rng.random((2000, 2))
+    got = field(q)
+    inside = np.isfinite(got)
+    np.testing.assert_allclose(
+        got[inside], f((q[inside] - origin) / 100.0), rtol=0, atol=1e-9 * np.abs(z).max()
+    )
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.floats(-10, 10), min_size=6, max_size=6))
+def test_p2_reproduces_any_quadratic(coef):
+    # defining property of P2 interpolation with exact nodal gradients, for any coefficients
+    pts = np.random.default_rng(7).random((80, 2))
+    x, y = pts.T
+    c = coef
+
+    def f(x, y):
+        return c[0] + c[1] * x + c[2] * y + c[3] * x * x + c[4] * x * y + c[5] * y * y
+
+    field = fit(pts, f(x, y), order=2)
+    q = np.random.default_rng(8).random((400, 2))
+    got = field(q)
+    inside = np.isfinite(got)
+    assert inside.sum() > 200
+    expected = f(q[inside, 0], q[inside, 1])
+    np.testing.assert_allclose(got[inside], expected, rtol=0, atol=1e-10 * (1 + max(map(abs, c))))
+
+
+def test_midpoint_formula_is_exact_for_quadratics():
+    # reference: sympy, a symbolic quadratic along an edge in 2D with exact gradients
+    x, y, xa, ya, xb, yb = sympy.symbols("x y xa ya xb yb")
+    c = sympy.symbols("c0:6")
+    f = c[0] + c[1] * x + c[2] * y + c[3] * x**2 + c[4] * x * y + c[5] * y**2
+
+    def at(px, py):
+        return f.subs({x: px, y: py})
+
+    def grad(px, py):
+        return [sympy.diff(f, s).subs({x: px, y: py}) for s in (x, y)]
+
+    ga, gb = grad(xa, ya), grad(xb, yb)
+    formula = (at(xa, ya) + at(xb, yb)) / 2 + (
+        (ga[0] - gb[0]) * (xb - xa) + (ga[1] - gb[1]) * (yb - ya)
+    ) / 8
+    assert sympy.expand(formula - at((xa + xb) / 2, (ya + yb) / 2)) == 0
+    # and the array function computes that formula: f = x^2 + 3 y on (1, 0) -> (3, 2)
+    va, vb = np.array([[1.0]]), np.array([[15.0]])
+    gam, gbm = np.array([[[2.0], [3.0]]]), np.array([[[6.0], [3.0]]])
+    assert midpoint(va, vb, gam, gbm, np.array([[2.0, 2.0]]))[0, 0] == pytest.approx(4.0 + 3.0)
+
+
+def test_p2_is_closer_than_p1_on_a_smooth_surface(rng):
+    # reference: the closed form sin(x) cos(y)
+    pts = 3.0 * rng.random((400, 2))
+    z = np.sin(pts[:, 0]) * np.cos(pts[:, 1])
+    q = 3.0 * rng.random((5000, 2))
+    exact = np.sin(q[:, 0]) * np.cos(q[:, 1])
+    err = {}
+    for order in (1, 2):
+        got = fit(pts, z, order=order)(q)
+        inside = np.isfinite(got)
+        e = got[inside] - exact[inside]
+        err[order] = (np.abs(e).max(), np.sqrt(np.mean(e**2)))
+    assert err[2][0] < err[1][0]
+    assert err[2][1] < 0.5 * err[1][1]
+
+
+def test_linear_field_is_the_data_on_the_triangulation(rng):
+    # reference: scipy's LinearNDInterpolator on the same points (general-purpose library)
+    from scipy.interpolate import LinearNDInterpolator
+
+    pts = rng.random((150, 2))
+    z = np.cos(3 * pts[:, 0]) + pts[:, 1]
+    field = fit(pts, z, name="z")
+    assert field.name == "z" and field.mesh.order == 1
+    q = rng.random((1000, 2))
+    np.testing.assert_allclose(field(q), LinearNDInterpolator(pts, z)(q), atol=1e-12)
+
+
+def test_max_edge_mask_and_unused_nodes(rng):
+    # a lattice with one far point: the mask removes the cells reaching it, the point
+    # stays a node no cell uses, and the P2 fit still reproduces quadratics where cells are
+    lattice = np.array([[i, j] for i in range(6) for j in range(6)], dtype=float)
+    lattice += 0.05 * rng.random(lattice.shape)
+    pts = np.vstack([lattice, [[20.0, 2.5]]])
+    f, _ = quadratic(rng, 2)
+    for order in (1, 2):
+        field = fit(pts, f(pts), order=order, max_edge=2.0)
+        np.testing.assert_array_equal(
+            field.mesh.corners, triangulate(pts, max_edge=2.0).cells
+        )
+        assert np.isnan(field([[10.0, 2.5]])[0])
+        assert (field.mesh.corners != len(lattice)).all()
+        assert np.isfinite(field.values).all()
+    q = 5.0 * rng.random((500, 2))
+    got = field(q)
+    inside = np.isfinite(got)
+    assert inside.mean() > 0.8
+    np.testing.assert_allclose(got[inside], f(q[inside]), atol=1e-10 * np.abs(f(q)).max())
+
+
+def test_boundary_mask(rng):
+    # an L-shaped site: cells whose centroid is outside the polygon are removed;
+    # reference: shapely's point-in-polygon (general-purpose library)
+    boundary = [[0, 0], [4, 0], [4, 2], [2, 2], [2, 4], [0, 4]]
+    pts = 4.0 * rng.random((300, 2))
+    field = fit(pts, pts[:, 0] ** 2, order=2, boundary=boundary)
+    poly = shapely.Polygon(boundary)
+    centroids = field.mesh.points[field.mesh.corners].mean(axis=1)
+    assert shapely.contains_xy(poly, centroids[:, 0], centroids[:, 1]).all()
+    assert np.isnan(field([[3.5, 3.5]])[0])
+    assert field([[1.0, 1.0]])[0] == pytest.approx(1.0, abs=1e-10)
+
+
+def test_duplicate_points_are_averaged(rng):
+    pts = rng.random((30, 2))
+    z = pts[:, 0] + 2 * pts[:, 1]
+    dup = np.vstack([pts, pts[4:5]])
+    zdup = np.append(z, z[4] + 1.0)
+    with pytest.warns(UserWarning, match="1 duplicate point"):
+        field = fit(dup, zdup)
+    assert field.mesh.n_nodes == 30
+    assert field.values[4] == pytest.approx(z[4] + 0.5)
+
+
+def test_nan_values_are_dropped_with_a_warning(rng):
+    pts = rng.random((40, 2))
+    z = np.sin(4 * pts[:, 0]) + pts[:, 1]
+    zn = z.copy()
+    zn[[3, 17, 22]] = np.nan
+    with pytest.warns(UserWarning, match="3 point\\(s\\) with NaN values dropped"):
+        field = fit(pts, zn, order=2)
+    keep = np.isfinite(zn)
+    clean = fit(pts[keep], z[keep], order=2)
+    np.testing.assert_array_equal(field.mesh.points, clean.mesh.points)
+    np.testing.assert_array_equal(field.values, clean.values)
+
+
+def test_several_components_fit_like_each_one(rng):
+    pts = rng.random((60, 3))
+    vals = np.column_stack([pts[:, 0] ** 2, np.cos(pts[:, 1]) + pts[:, 2]])
+    both = fit(pts, vals, order=2)
+    assert both.values.shape[1] == 2
+    for c in range(2):
+        np.testing.assert_allclose(both.values[:, c], fit(pts, vals[:, c], order=2).values)
+
+
+def test_tiny_sets_fall_back_to_linear_gradients():
+    # four points cannot carry a quadratic: the P2 fit still reproduces linear data
+    pts = np.array([[0.0, 0], [1, 0], [0, 1], [1, 1.2]])
+    z = 2 + 3 * pts[:, 0] - pts[:, 1]
+    field = fit(pts, z, order=2)
+    q = np.array([[0.3, 0.3], [0.7, 0.8], [0.5, 0.1]])
+    np.testing.assert_allclose(field(q), 2 + 3 * q[:, 0] - q[:, 1], atol=1e-12)
+
+
+def test_one_dimensional_points_as_a_flat_array():
+    x = np.array([0.0, 0.7, 1.1, 2.0, 3.4, 4.0])
+    field = fit(x, (x - 1) ** 2, order=2)
+    q = np.linspace(0, 4, 17)
+    np.testing.assert_allclose(field(q), (q - 1) ** 2, atol=1e-12)
+    assert np.isnan(field([5.0])[0])
+
+
+def test_bad_input():
+    pts = np.random.default_rng(0).random((10, 2))
+    with pytest.raises(InterpError, match="order must be 1"):
+        fit(pts, np.zeros(10), order=3)
+    with pytest.raises(InterpError, match="10 points.*9 rows"):
+        fit(pts, np.zeros(9))
+    with pytest.raises(InterpError, match="infinite at row 2"):
+        fit(pts, np.where(np.arange(10) == 2, np.inf, 0.0))
+    assert isinstance(fit(pts, np.zeros(10)), Field)
