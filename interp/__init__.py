@@ -29,7 +29,7 @@ from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Regi
 from interp.resample import Profile, profile, transfer
 from interp.source import load
 from interp.triangulate import triangulate
-from interp.validate import crossvalidate, residual_summary, residual_summary
+from interp.validate import crossvalidate, residual_summary
 from interp.view import show, show_difference, show_profile, show_residuals
 from interp.volume import Volumes, volume_between
 
@@ -64,7 +64,6 @@ __all__ = [
     "read",
     "read_points",
     "read_polygon",
-    "residual_summary",
     "residual_summary",
     "show",
     "show_difference",

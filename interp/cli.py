@@ -336,6 +336,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("source", type=Path)
     p.add_argument("query", type=Path, help="query point file (same --coords columns)")
     p.add_argument("-o", "--output", type=Path, required=True, help="output CSV")
+    p.add_argument(
+        "--chunk-rows",
+        type=int,
+        default=500_000,
+        help="query rows read, evaluated and written at a time (default 500000)",
+    )
+    p.add_argument(
+        "--workers",
+        type=int,
+        help="spread the evaluation over N local worker processes (dask extra)",
+    )
+    p.add_argument("--scheduler", help="address of a running dask.distributed scheduler")
     source_options(p)
 
     p = add("profile", "sample along a section line", cmd_profile)

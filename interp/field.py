@@ -91,7 +91,14 @@ class Field:
         Returns
         -------
         ndarray (n,) or (n, c)
+            A lazy dask array when ``query`` is a dask array (chunked along
+            rows): each chunk is evaluated with this code on the workers, the
+            field being shipped once (see :mod:`interp.parallel`).
         """
+        from interp.parallel import evaluate, is_dask
+
+        if is_dask(query):
+            return evaluate(self, query, outside=outside)
         return self.evaluate(self._locate(query), outside)
 
     def evaluate(self, location: Location, outside: float = np.nan) -> np.ndarray:
@@ -131,6 +138,10 @@ class Field:
         >>> f.gradient([1.0]).tolist()
         [[2.0]]
         """
+        from interp.parallel import evaluate, is_dask
+
+        if is_dask(query):
+            return evaluate(self, query, what="gradient")
         loc = self._locate(query)
         inside = loc.inside
         g = self.mesh.gdim

@@ -81,7 +81,9 @@ class Grid:
         ``.npz``: arrays ``x``, ``y`` (``z``) and one array per field;
         ``.csv``: one row per node, coordinates then fields (empty cell for
         NaN); ``.vti``: VTK XML image data (an open format read by ParaView
-        and pyvista).  The file is written atomically.
+        and pyvista); ``.zarr``: a Zarr store written chunk by chunk (for
+        dask-backed grids larger than memory; needs the ``dask`` extra).  The
+        file is written atomically.
 
         Examples
         --------
@@ -94,12 +96,16 @@ class Grid:
         """
         path = Path(path)
         suffix = path.suffix.lower()
+        if suffix == ".zarr":
+            from interp.parallel import save_zarr
+
+            return save_zarr(self, path)
         if suffix == ".csv":
             return write_table(path, *self._columns())
         writer = _WRITERS.get(suffix)
         if writer is None:
             raise InterpError(
-                f"cannot save a grid as {path.name!r}: use .csv or one of {', '.join(_WRITERS)}"
+                f"cannot save a grid as {path.name!r}: use .csv, .zarr, {', '.join(_WRITERS)}"
             )
         with atomic_path(path) as tmp:
             writer(self, tmp)
@@ -272,6 +278,7 @@ def to_grid(
     *,
     spacing: float | Sequence[float],
     bounds: Sequence[float] | None = None,
+    chunks: object | None = None,
 ) -> Grid:
     """Evaluate one or more fields on a regular node-centred grid.
 
@@ -285,6 +292,11 @@ def to_grid(
         ``(xmin, xmax, ymin, ymax[, zmin, zmax])``; default the bounds of the
         meshes.
         Nodes start at each minimum and step by ``spacing`` up to the maximum.
+    chunks : int, tuple or str, optional
+        Evaluate lazily with dask in blocks of this shape (any form dask
+        accepts, e.g. ``1000`` or ``(2000, 2000)``): the grid's ``fields`` are
+        then dask arrays, for grids larger than memory; save them with
+        ``Grid.save("grid.zarr")``.  Needs the ``dask`` extra.
 
     Returns
     -------
@@ -309,6 +321,11 @@ def to_grid(
         ]
     )
     axes = grid_axes(grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim))
+    units = {n: f.units for n, f in named.items() if f.units}
+    if chunks is not None:
+        from interp.parallel import grid as lazy_grid
+
+        return Grid(axes, lazy_grid(named, axes, chunks), units)
     shape = tuple(len(a) for a in axes)
     total = int(np.prod(shape))
     if total > MAX_NODES:
@@ -326,5 +343,4 @@ def to_grid(
         for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
             out[name][start : start + len(v)] = v
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
-    units = {n: f.units for n, f in named.items() if f.units}
     return Grid(axes, fields_out, units)

@@ -447,8 +447,10 @@ class Mesh:
         [0.5, 0.25, 0.25]
         """
         from interp.index import locate
+        from interp.parallel import is_dask
+        from interp.parallel import locate as locate_lazily
 
-        return locate(self, query)
+        return locate_lazily(self, query) if is_dask(query) else locate(self, query)
 
 
 def _infer_kind(k: int, g: int, cell_type: str | None) -> tuple[int, int]:
