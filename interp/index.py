@@ -237,13 +237,32 @@ def _visit_buckets(i0, i1, shape, slot, members, fill):  # pragma: no cover
 
 
 def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.ndarray) -> None:
-    i = np.floor((x - index.lo) / index.h)
-    ok = ((i >= 0) & (i < index.shape)).all(axis=1)  # False for NaN rows too
-    i = np.where(ok[:, None], i, 0).astype(np.int64)
-    flat = np.where(ok, np.ravel_multi_index(tuple(i.T), tuple(index.shape)), -1)
-    # visiting the points bucket by bucket keeps the cell data in cache
-    order = np.argsort(flat)
+    flat = np.empty(len(x), dtype=np.int64)
+    same = _bucket_of(x, index.lo, index.h, index.shape, flat)
+    # visiting the points bucket by bucket keeps the cell data in cache; points that
+    # already come in coherent order (a raster, a survey line) need no sort
+    order = np.arange(len(x)) if same > 0.5 * len(x) else np.argsort(flat)
     _scan(x, flat, order, index.start, index.members, index.affine, cells, bary)
+
+
+@numba.njit(cache=True, nogil=True)
+def _bucket_of(x, lo, h, shape, flat):  # pragma: no cover
+    """Bucket of each point (-1 outside the grid or NaN); returns how many share the
+    bucket of the point before them."""
+    n, g = x.shape
+    same = 0
+    for p in range(n):
+        b = 0
+        for a in range(g):
+            v = (x[p, a] - lo[a]) / h[a]
+            if not (v >= 0.0 and v < shape[a]):  # also False for NaN
+                b = -1
+                break
+            b = b * shape[a] + int(v)
+        flat[p] = b
+        if p > 0 and b == flat[p - 1]:
+            same += 1
+    return same
 
 
 @numba.njit(cache=True, nogil=True)

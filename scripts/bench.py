@@ -83,7 +83,7 @@ def bench_locate(small: bool) -> None:
         np.testing.assert_allclose(field(q), ref(q), atol=1e-12, equal_nan=True)
         for engine in ("interp", "scipy"):
             peak = child_peak(f"locate-{engine}-{d}-{n}-{nq}")
-            print(f"  peak resident set (build + queries), {engine:<7} {peak:8.1f} MiB")
+            print(f"  peak memory growth (build + queries), {engine:<7} {peak:8.1f} MiB")
 
 
 def child_peak(case: str) -> float:
@@ -94,16 +94,40 @@ def child_peak(case: str) -> float:
     return float(out.stdout.strip())
 
 
+def rss_mib() -> float:
+    """Current resident set of this process, in MiB (Linux)."""
+    with open("/proc/self/statm") as fh:
+        return int(fh.read().split()[1]) * resource.getpagesize() / 2**20
+
+
 def run_child(case: str) -> None:
-    """Print the peak resident set (MiB) of one case; both engines load the same modules."""
+    """Print the peak growth of the resident set (MiB) while one engine runs one case.
+
+    A thread samples the resident set every millisecond; the figure is the peak
+    minus the resident set just before the case (after imports and data).
+    """
+    import threading
+
     _, engine, d, n, nq = case.split("-")
     pts, vals, q = case_data(int(d), int(n), int(nq))
     interp.Field(interp.triangulate(pts[:50]), vals[:50])(q[:5])  # same baseline for both
+    base = rss_mib()
+    peak = [base]
+    done = threading.Event()
+
+    def sample() -> None:
+        while not done.wait(0.001):
+            peak[0] = max(peak[0], rss_mib())
+
+    watcher = threading.Thread(target=sample)
+    watcher.start()
     if engine == "interp":
         interp.Field(interp.triangulate(pts), vals)(q)
     else:
         LinearNDInterpolator(Delaunay(pts), vals)(q)
-    print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024)
+    done.set()
+    watcher.join()
+    print(max(peak[0], rss_mib()) - base)
 
 
 def bench_grid(small: bool) -> None:
