@@ -48,6 +48,13 @@ class Progress:
             sys.stderr.write("\n")
 
 
+def stage(args: argparse.Namespace, text: str) -> None:
+    """Say on stderr what a long step is doing (a terminal only, not with --quiet)."""
+    if not args.quiet and sys.stderr.isatty():
+        sys.stderr.write(f"interp: {text}...\n")
+        sys.stderr.flush()
+
+
 def numbers(text: str) -> list[float]:
     """Parse a comma-separated list of numbers (an argparse type)."""
     try:
@@ -99,6 +106,7 @@ def source_options(p: argparse.ArgumentParser) -> None:
 
 
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
+    stage(args, f"reading {path or args.source}")
     boundary = interp.read_polygon(args.boundary)[0] if args.boundary else None
     return load(
         path or args.source,
@@ -151,7 +159,10 @@ def cmd_info(args: argparse.Namespace) -> None:
 
 
 def cmd_grid(args: argparse.Namespace) -> None:
-    grid = interp.to_grid(open_source(args), spacing=args.spacing, bounds=args.bounds)
+    fields = open_source(args)
+    stage(args, "evaluating the grid")
+    grid = interp.to_grid(fields, spacing=args.spacing, bounds=args.bounds)
+    stage(args, f"writing {args.output}")
     out = grid.save(args.output)
     inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
     if not args.quiet:
@@ -243,6 +254,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     result, lines = {}, []
     for name, v in values.items():
+        stage(args, f"leave-one-out residuals of {name}")
         stats = interp.residual_summary(
             points,
             interp.crossvalidate(points, v, order=args.order, max_edge=args.max_edge),

@@ -157,3 +157,13 @@ def test_module_entry_point():
         [sys.executable, "-m", "interp.cli", "--version"], capture_output=True, text=True
     )
     assert r.returncode == 0 and r.stdout.startswith("interp ")
+
+
+def test_view_writes_png(survey):
+    d, _, _ = survey
+    r = run("view", d / "s.csv", "--warp", "2", "--contours", "5", "--screenshot", d / "v.png")
+    assert r.returncode == 0, r.stderr
+    from matplotlib.image import imread
+
+    img = imread(d / "v.png")
+    assert img.shape[:2] == (900, 1200) and img.std() > 0.02
