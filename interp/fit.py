@@ -14,10 +14,12 @@ from gradients recovered at the two end nodes:
 
       m = (v_a + v_b) / 2 + (g_a - g_b) . (x_b - x_a) / 8.
 
-  Along the edge a quadratic is f(t) = v_a + t f'(0) + t^2 c with
-  f'(t) = (g . (x_b - x_a)) at the ends, so 2 c = f'(1) - f'(0), f(1) = v_a +
-  f'(0) + c and f(1/2) = (f(0) + f(1)) / 2 - c / 4, which is the formula: the
-  midpoint of any quadratic along the edge when the gradients are exact.
+  Along the edge, with t from 0 at a to 1 at b, a quadratic is f(t) = v_a +
+  t f'(0) + t^2 c, where f'(0) = g_a . (x_b - x_a) and f'(1) = g_b . (x_b -
+  x_a) = f'(0) + 2 c.  Then f(1) = v_a + f'(0) + c, so f(1/2) = v_a +
+  f'(0) / 2 + c / 4 = (f(0) + f(1)) / 2 - c / 4, and -c / 4 = (f'(0) -
+  f'(1)) / 8 is the second term: the formula gives the midpoint value of
+  any quadratic along the edge when the gradients are exact.
 
 Where even the 2-ring cannot carry a quadratic (tiny data sets, a node whose
 2-ring is nearly on a conic) the gradient comes from a linear least-squares
@@ -64,6 +66,12 @@ class Samples:
         Number of rows merged into each distinct point.
     scalar : bool
         True when the input values were one per point (shape (n,)).
+
+    Examples
+    --------
+    >>> s = samples([[0.0], [1.0]], [[1.0, 2.0], [3.0, 4.0]], 1)
+    >>> s.mean.shape, s.scalar, s.shaped(s.mean).shape
+    ((2, 2), False, (2, 2))
     """
 
     valid: np.ndarray
@@ -294,11 +302,11 @@ def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no
     mark = np.full(n, -1, dtype=np.int64)
     members = np.empty(n, dtype=np.int64)
     for i in range(n):
-        node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
+        _node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
 
 
 @numba.njit(cache=True, nogil=True)
-def node_gradient(
+def _node_gradient(
     node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
 ):  # pragma: no cover
     """Recovered gradient (d, c) at ``node``: quadratic fit on the 1-ring, else 2-ring, else linear.

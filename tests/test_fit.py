@@ -47,7 +47,8 @@ def test_p2_reproduces_quadratics_inside_the_hull(rng, d, n):
 
 
 def test_p2_reproduces_quadratics_in_projected_coordinates(rng):
-    # survey coordinates far from the origin: a quadratic in offsets from a site origin
+    # survey coordinates far from the origin: a quadratic in offsets from a site origin is
+    # still reproduced (defining property of P2 with exact recovered gradients, as above)
     origin = np.array([512_345.0, 6_123_456.0])
     pts = origin + 100.0 * rng.random((300, 2))
     f, _ = quadratic(rng, 2)
@@ -133,17 +134,16 @@ def test_linear_field_is_the_data_on_the_triangulation(rng):
 
 
 def test_max_edge_mask_and_unused_nodes(rng):
-    # a lattice with one far point: the mask removes the cells reaching it, the point
-    # stays a node no cell uses, and the P2 fit still reproduces quadratics where cells are
+    # a lattice with one far point: the mask removes the cells reaching it (the same cells
+    # as interp.triangulate's mask), the point stays a node no cell uses, and the P2 fit
+    # still reproduces quadratics where cells are (defining property, as above)
     lattice = np.array([[i, j] for i in range(6) for j in range(6)], dtype=float)
     lattice += 0.05 * rng.random(lattice.shape)
     pts = np.vstack([lattice, [[20.0, 2.5]]])
     f, _ = quadratic(rng, 2)
     for order in (1, 2):
         field = fit(pts, f(pts), order=order, max_edge=2.0)
-        np.testing.assert_array_equal(
-            field.mesh.corners, triangulate(pts, max_edge=2.0).cells
-        )
+        np.testing.assert_array_equal(field.mesh.corners, triangulate(pts, max_edge=2.0).cells)
         assert np.isnan(field([[10.0, 2.5]])[0])
         assert (field.mesh.corners != len(lattice)).all()
         assert np.isfinite(field.values).all()
@@ -168,6 +168,7 @@ def test_boundary_mask(rng):
 
 
 def test_duplicate_points_are_averaged(rng):
+    # repeated measurements at one position are averaged (common practice, no source)
     pts = rng.random((30, 2))
     z = pts[:, 0] + 2 * pts[:, 1]
     dup = np.vstack([pts, pts[4:5]])
@@ -179,6 +180,7 @@ def test_duplicate_points_are_averaged(rng):
 
 
 def test_nan_values_are_dropped_with_a_warning(rng):
+    # the fit equals the fit of the rows without NaN values
     pts = rng.random((40, 2))
     z = np.sin(4 * pts[:, 0]) + pts[:, 1]
     zn = z.copy()
@@ -202,6 +204,7 @@ def test_several_components_fit_like_each_one(rng):
 
 def test_tiny_sets_fall_back_to_linear_gradients():
     # four points cannot carry a quadratic: the P2 fit still reproduces linear data
+    # (linear least squares is exact on linear data; P2 interpolation contains P1)
     pts = np.array([[0.0, 0], [1, 0], [0, 1], [1, 1.2]])
     z = 2 + 3 * pts[:, 0] - pts[:, 1]
     field = fit(pts, z, order=2)
@@ -210,6 +213,7 @@ def test_tiny_sets_fall_back_to_linear_gradients():
 
 
 def test_one_dimensional_points_as_a_flat_array():
+    # 1D P2 reproduces the parabola (x - 1)^2 exactly between the end points, NaN beyond
     x = np.array([0.0, 0.7, 1.1, 2.0, 3.4, 4.0])
     field = fit(x, (x - 1) ** 2, order=2)
     q = np.linspace(0, 4, 17)
