@@ -257,6 +257,7 @@ def test_bad_input_is_refused(cube, bay):
     surface = Mesh([[0.0, 0, 0], [1, 0, 0], [0, 1, 1]], [[0, 1, 2]])
     with pytest.raises(InterpError, match="fill their space"):
         clip(surface, Box([0, 0, 0], [1, 1, 1]))
+
     class Disc(Region):
         gdim = 2
 
