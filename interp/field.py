@@ -115,12 +115,15 @@ class Field:
         [3.0]
         """
         inside = location.inside
+        every = bool(inside.all())
+        hit = location.cells if every else location.cells[inside]
+        n = shape(self.mesh.dim, self.mesh.order, location.bary if every else location.bary[inside])
+        vals = self.values[self.mesh.cells[hit]]
+        inner = np.einsum("pi,pi->p" if vals.ndim == 2 else "pi,pic->pc", n, vals)
+        if every:
+            return inner
         out = np.full((inside.size,) + self.values.shape[1:], outside, dtype=np.float64)
-        cells = self.mesh.cells[location.cells[inside]]
-        n = shape(self.mesh.dim, self.mesh.order, location.bary[inside])
-        out[inside] = np.einsum(
-            "pi,pi->p" if self.values.ndim == 1 else "pi,pic->pc", n, self.values[cells]
-        )
+        out[inside] = inner
         return out
 
     def gradient(self, query: object) -> np.ndarray:
