@@ -315,6 +315,12 @@ def _node_gradient(
     ``over_node[j] == q`` and ``idx[ptr[q]:ptr[q + 1]]`` otherwise.  ``mark``
     (n,) and ``members`` (n,) are scratch; ``stamp`` must differ from every
     value already in ``mark``.
+
+    The neighbours are put in ascending index order before each fit, so the
+    result (and the choice between the fits, which the pivoting of the QR
+    makes depend on row order near the threshold) does not depend on the
+    order the neighbour lists come in; a leave-one-out refit, whose lists
+    are built differently, then takes the same decisions.
     """
     members[0] = node
     mark[node] = stamp
@@ -323,12 +329,14 @@ def _node_gradient(
         grad[:] = np.nan
         return
     ring1 = count
+    members[1:count].sort()
     if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
         return
     for r in range(1, ring1):
         count = _add_ring(
             members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
         )
+    members[1:count].sort()
     if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
         return
     if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
@@ -389,9 +397,13 @@ def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
         b[r] = v[j]
     norm = np.empty(nc)
     for k in range(nc):
-        norm[k] = np.sqrt(np.sum(a[:, k] ** 2))
-        if norm[k] > 0:
-            a[:, k] /= norm[k]
+        s = 0.0
+        for r in range(count):
+            s += a[r, k] ** 2
+        norm[k] = np.sqrt(s)
+        if s > 0:
+            for r in range(count):
+                a[r, k] /= norm[k]
     coef = np.empty((nc, v.shape[1]))
     min_rcond = MIN_RCOND if degree == 2 else MIN_RCOND_LINEAR
     rcond = _lstsq(a, b, coef, min_rcond)

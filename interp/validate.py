@@ -250,7 +250,8 @@ def _leave_one_out(
         mark[p] = stamp
         k = 0
         for j in range(vc_ptr[p], vc_ptr[p + 1]):
-            for q in cells[vc_idx[j]]:
+            for t in range(r):
+                q = cells[vc_idx[j], t]
                 if mark[q] != stamp:
                     mark[q] = stamp
                     link[k] = q
@@ -316,7 +317,7 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     k, d = link.size, x.shape[1]
     dist = np.empty(k)
     for i in range(k):
-        dist[i] = np.sqrt(np.sum((x[link[i]] - x[p]) ** 2))
+        dist[i] = _distance(x, link[i], p)
     order = np.argsort(dist)
     link[:] = link[order]
     radius = dist[order[-1]]
@@ -324,8 +325,10 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     lift = np.empty(k)
     for i in range(k):
         local[link[i]] = i
-        y[i] = (x[link[i]] - x[p]) / radius
-        lift[i] = np.sum(y[i] ** 2)
+        lift[i] = 0.0
+        for a in range(d):
+            y[i, a] = (x[link[i], a] - x[p, a]) / radius
+            lift[i] += y[i, a] ** 2
     return y, lift
 
 
@@ -399,7 +402,8 @@ def _boundary(cells, star_cells, p, local):  # pragma: no cover
     out = np.empty((star_cells.size, d), dtype=np.int64)
     for s in range(star_cells.size):
         j = 0
-        for q in cells[star_cells[s]]:
+        for t in range(d + 1):
+            q = cells[star_cells[s], t]
             if q != p:
                 out[s, j] = local[q]
                 j += 1
@@ -421,13 +425,14 @@ def _star_cells(y, first, boundary):  # pragma: no cover
     count, head = 1, 0
     face = np.empty(r - 1, dtype=np.int64)
     cand = np.empty(r, dtype=np.int64)
+    c0, nrm = np.empty(r - 1), np.empty(r - 1)
     while head < count:
         for i in range(r):
             for j in range(r - 1):
                 face[j] = cells[head, j + (j >= i)]
             if _has_row(boundary, boundary.shape[0], face):
                 continue
-            e = _apex(y, face, cells[head, i])
+            e = _apex(y, face, cells[head, i], c0, nrm)
             if e < 0:
                 continue
             cand[: r - 1] = face
@@ -458,18 +463,17 @@ def _has_row(rows, count, row):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def _apex(y, face, opposite):  # pragma: no cover
+def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     """The Delaunay neighbour across ``face`` from the vertex ``opposite``: its new vertex.
 
     The spheres through the face have centres c0 + t n (c0 the face's
     circumcentre, n its normal pointing away from ``opposite``); the vertex
     beyond the face with the smallest t is the first such a sphere meets, so
-    its sphere holds no other vertex.  -1 when no vertex lies beyond.
+    its sphere holds no other vertex.  -1 when no vertex lies beyond.  ``c0``
+    and ``nrm`` (d,) are scratch.
     """
     d = y.shape[1]
     g0 = y[face[0]]
-    c0 = np.empty(d)
-    nrm = np.empty(d)
     if d == 1:
         c0[0], nrm[0] = g0[0], 1.0
     elif d == 2:
@@ -520,7 +524,7 @@ def _new_rings(
     over_idx = np.empty(size, dtype=np.int64)
     new_kept = np.empty(n_new, dtype=np.bool_)
     for c in range(n_new):
-        new_kept[c] = _longest(x, link, new[c]) <= max_edge
+        new_kept[c] = max_edge == np.inf or _longest(x, link, new[c]) <= max_edge
     count = 0
     for i in range(k):
         a = link[i]
@@ -529,18 +533,19 @@ def _new_rings(
         mark[p] = stamp
         for j in range(vc_ptr[a], vc_ptr[a + 1]):
             c = vc_idx[j]
-            if not kept[c] or _holds(cells[c], p):
+            if not kept[c] or _holds(cells, c, p):
                 continue
-            for q in cells[c]:
+            for t in range(d + 1):
+                q = cells[c, t]
                 if mark[q] != stamp:
                     mark[q] = stamp
                     over_idx[count] = q
                     count += 1
         for c in range(n_new):
-            if not new_kept[c] or not _holds(new[c], i):
+            if not new_kept[c] or not _holds(new, c, i):
                 continue
-            for li in new[c]:
-                q = link[li]
+            for t in range(d + 1):
+                q = link[new[c, t]]
                 if mark[q] != stamp:
                     mark[q] = stamp
                     over_idx[count] = q
@@ -557,7 +562,10 @@ def _empty(y, lift, combo, origin, inv, lam):  # pragma: no cover
     lifted corners, i.e. below sum_j lam_j(q) |y_j|^2.
     """
     for q in range(y.shape[0]):
-        if _holds(combo, q):
+        corner = False
+        for j in range(combo.size):
+            corner = corner or combo[j] == q
+        if corner:
             continue
         _bary(y[q], origin, inv, lam)
         plane = 0.0
@@ -619,15 +627,24 @@ def _longest(x, link, combo):  # pragma: no cover
     out = 0.0
     for i in range(combo.size):
         for j in range(i + 1, combo.size):
-            out = max(out, np.sqrt(np.sum((x[link[combo[i]]] - x[link[combo[j]]]) ** 2)))
+            out = max(out, _distance(x, link[combo[i]], link[combo[j]]))
     return out
 
 
 @numba.njit(cache=True, nogil=True)
-def _holds(row, value):  # pragma: no cover
-    """Whether the small array ``row`` holds ``value``."""
-    for item in row:
-        if item == value:
+def _distance(x, a, b):  # pragma: no cover
+    """Euclidean distance between points a and b of ``x``."""
+    s = 0.0
+    for k in range(x.shape[1]):
+        s += (x[a, k] - x[b, k]) ** 2
+    return np.sqrt(s)
+
+
+@numba.njit(cache=True, nogil=True)
+def _holds(rows, i, value):  # pragma: no cover
+    """Whether row i of the small 2-D array ``rows`` holds ``value``."""
+    for t in range(rows.shape[1]):
+        if rows[i, t] == value:
             return True
     return False
 

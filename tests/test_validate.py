@@ -96,6 +96,15 @@ def test_quadratic_equals_refitting_without_each_point(rng, d, n, max_edge):
     assert_same(got, brute_refit(pts, vals, 2, max_edge), atol=1e-10)
 
 
+def test_quadratic_equals_refitting_on_clustered_points():
+    # reference: the definition, as above; on strongly clustered points some nodes sit near
+    # the threshold between the 1-ring and the 2-ring fit, and the refit must decide alike
+    pts = np.random.default_rng(101).random((150, 2)) ** 3
+    vals = np.sin(3 * pts[:, 0]) + pts[:, 1] ** 2
+    got = crossvalidate(pts, vals, order=2)
+    assert_same(got, brute_refit(pts, vals, 2), atol=1e-10)
+
+
 def test_linear_equals_refitting_with_a_mask_in_3d(rng):
     # reference: the definition, fit(order=1, max_edge) of the others evaluated at the point
     pts = rng.random((45, 3))
