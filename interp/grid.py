@@ -113,13 +113,34 @@ class Grid:
 
     def _columns(self) -> tuple[list[str], np.ndarray]:
         """Column names and the (N, k) table of node coordinates and field values."""
-        names = list("xyz"[: len(self.axes)])
-        cols = [self.points()]
-        for name, v in self.fields.items():
-            flat = v.reshape(int(np.prod(self.shape)), -1)
-            names += [name] if flat.shape[1] == 1 else [f"{name}_{c}" for c in range(flat.shape[1])]
-            cols.append(flat)
-        return names, np.hstack(cols)
+        names, cols = field_columns(self.fields, int(np.prod(self.shape)))
+        return list("xyz"[: len(self.axes)]) + names, np.hstack([self.points(), cols])
+
+
+def component_names(name: str, k: int) -> list[str]:
+    """Column names of a field with k components: the name, or name_0 .. name_{k-1}.
+
+    Examples
+    --------
+    >>> component_names("z", 1), component_names("u", 2)
+    (['z'], ['u_0', 'u_1'])
+    """
+    return [name] if k == 1 else [f"{name}_{c}" for c in range(k)]
+
+
+def field_columns(fields: Mapping[str, np.ndarray], n: int) -> tuple[list[str], np.ndarray]:
+    """Named fields of n values (+ components) as column names and an (n, k) table.
+
+    Examples
+    --------
+    >>> field_columns({"z": np.zeros(2), "u": np.ones((2, 2))}, 2)[0]
+    ['z', 'u_0', 'u_1']
+    """
+    flat = [v.reshape(n, -1) for v in fields.values()]
+    names = [
+        c for name, v in zip(fields, flat, strict=True) for c in component_names(name, v.shape[1])
+    ]
+    return names, np.hstack(flat)
 
 
 def _write_npz(grid: Grid, path: Path) -> None:

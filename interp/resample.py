@@ -10,7 +10,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields, evaluate_fields
+from interp.grid import as_fields, evaluate_fields, field_columns
 from interp.io import write_table
 from interp.mesh import Mesh, as_points
 
@@ -61,13 +61,9 @@ class Profile:
         1,1,0,
         <BLANKLINE>
         """
-        names = ["distance"] + list("xyz"[: self.points.shape[1]])
-        cols = [self.distance[:, None], self.points]
-        for name, v in self.fields.items():
-            flat = v.reshape(len(v), -1)
-            names += [name] if flat.shape[1] == 1 else [f"{name}_{c}" for c in range(flat.shape[1])]
-            cols.append(flat)
-        return write_table(path, names, np.hstack(cols))
+        names, cols = field_columns(self.fields, len(self.distance))
+        header = ["distance"] + list("xyz"[: self.points.shape[1]]) + names
+        return write_table(path, header, np.hstack([self.distance[:, None], self.points, cols]))
 
 
 def profile(

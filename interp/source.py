@@ -18,6 +18,7 @@ import numpy as np
 from interp.errors import InterpError
 from interp.field import Field
 from interp.fit import fit
+from interp.grid import component_names
 from interp.io import TableWriter, iter_point_chunks, read, read_points
 
 #: file extensions read as point files; anything else goes to meshio.
@@ -183,11 +184,7 @@ def sample_file(
     """
     evaluate = evaluate or (lambda f, p: f(p))
     rows = outside = 0
-    names = [
-        n if f.n_components == 1 else f"{n}_{c}"
-        for n, f in fields.items()
-        for c in range(f.n_components)
-    ]
+    names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         writer = None
         for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
