@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 
 import interp
-from interp.source import describe, load, sample_file
+from interp.source import choose_fields, describe, load, sample_file
 
 CAUTION = (
     "Caution: computed volumes depend on survey density and method; check them against the "
@@ -245,11 +245,8 @@ def first_field(fields: dict[str, interp.Field]) -> interp.Field:
 
 
 def cmd_crossval(args: argparse.Namespace) -> None:
-    from interp.io import read_points
-
-    points, values = read_points(args.source, coords=args.coords)
-    if args.field:
-        values = {args.field: values[args.field]} if args.field in values else {}
+    points, values = interp.read_points(args.source, coords=args.coords)
+    values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     result, lines = {}, []

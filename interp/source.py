@@ -76,7 +76,7 @@ def load(
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
             )
-        chosen = _choose(values, field, path)
+        chosen = choose_fields(values, field, path)
         return {
             name: fit(points, v, order=order, max_edge=max_edge, boundary=boundary, name=name)
             for name, v in chosen.items()
@@ -84,10 +84,17 @@ def load(
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
-    return {name: Field(mesh, v, name=name) for name, v in _choose(data, field, path).items()}
+    return {name: Field(mesh, v, name=name) for name, v in choose_fields(data, field, path).items()}
 
 
-def _choose(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
+def choose_fields(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
+    """All of ``values``, or only the one named ``field`` (an error lists the names).
+
+    Examples
+    --------
+    >>> list(choose_fields({"z": 1, "t": 2}, "t", "f.csv"))
+    ['t']
+    """
     if field is None:
         return values
     if field not in values:
