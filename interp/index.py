@@ -1,11 +1,13 @@
 """The spatial index over a mesh's cells, and point location.
 
-:class:`CellIndex` bins every cell's bounding box into a uniform grid of
-buckets (one to three buckets per cell) stored in compressed sparse rows.  A
-query point looks up its bucket and tests the few cells listed there, so the
-cost per point does not depend on the order of the queries, and the index
-works on any mesh whose cells fill their space: convex or not, with holes,
-Delaunay or not.
+:class:`CellIndex` lays a uniform grid of buckets over the mesh (about one
+bucket per cell in 2D, one per two cells in 3D) and lists, in compressed sparse
+rows, the cells that reach into each bucket: the buckets of a cell's bounding
+box, less those its own planes exclude.  Query points are ordered by bucket
+(a counting sort), gathered, tested against the few cells listed in their
+bucket and scattered back, so the cost per point does not depend on the order
+of the queries, and the index works on any mesh whose cells fill their space:
+convex or not, with holes, Delaunay or not.
 
 Coordinates are centred on the mesh's bounding box and scaled to [-1, 1]
 before anything is computed, so projected survey coordinates (x near 5e5,
@@ -36,9 +38,12 @@ TOLERANCE = 1e-10
 TIE = 1e-12
 #: buckets per cell in the index grid, by dimension (tuned with scripts/bench.py:
 #: a tetrahedron's bounding box is large for its volume, so 3D takes fewer).
-BUCKETS_PER_CELL = {1: 2.0, 2: 3.0, 3: 1.0}
-#: query points handled per block (bounds the temporary memory).
-BLOCK = 1 << 16
+BUCKETS_PER_CELL = {1: 2.0, 2: 1.0, 3: 0.5}
+#: barycentric margin, well above rounding, by which a bucket must miss a cell's
+#: planes to leave the cell off the bucket's list.
+MARGIN = 1e-8
+#: query points handled per block (bounds the temporary memory to about 20 MiB).
+BLOCK = 1 << 18
 
 
 @dataclass(frozen=True)
@@ -101,15 +106,14 @@ class CellIndex:
         self.h = extent / self.shape
         # bary[1:] = x @ affine[c, :g] + affine[c, g]: one block of memory per cell
         self.affine = np.empty((mesh.n_cells, g + 1, g))
+        self.box = np.empty((mesh.n_cells, 2, g))
         i0 = np.empty((mesh.n_cells, g), dtype=np.int64)
         i1 = np.empty_like(i0)
         scaled = (mesh.points - self.center) / self.scale
-        _cell_maps(scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1)
-        self.box = (
-            np.stack([scaled[mesh.corners].min(axis=1), scaled[mesh.corners].max(axis=1)], axis=1)
-            + np.array([-pad, pad])[:, None]
+        _cell_maps(
+            scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, self.box, i0, i1
         )
-        self.start, self.members = _bucket_cells(i0, i1, self.shape)
+        self.start, self.members = _bucket_cells(i0, i1, self.lo, self.h, self.shape, self.affine)
 
     @property
     def n_buckets(self) -> int:
@@ -159,8 +163,9 @@ class CellIndex:
 
 
 @numba.njit(cache=True, nogil=True)
-def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1):  # pragma: no cover
-    """Affine map to barycentric coordinates and bucket range of every cell."""
+def _cell_maps(points, corners, lo, h, shape, pad, affine, box, i0, i1):  # pragma: no cover
+    """Affine map to barycentric coordinates, padded bounding box and bucket range of
+    every cell."""
     m, g = i0.shape
     e = np.empty((g, g))
     inv = np.empty((g, g))
@@ -199,58 +204,115 @@ def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1):  # pragma: n
                 x = points[corners[c, k], a]
                 cmin = min(cmin, x)
                 cmax = max(cmax, x)
+            box[c, 0, a] = cmin - pad
+            box[c, 1, a] = cmax + pad
             i0[c, a] = min(max(int(np.floor((cmin - pad - lo[a]) / h[a])), 0), shape[a] - 1)
             i1[c, a] = min(max(int(np.floor((cmax + pad - lo[a]) / h[a])), 0), shape[a] - 1)
 
 
-def _bucket_cells(i0: np.ndarray, i1: np.ndarray, shape: np.ndarray):
-    """CSR lists of the cells whose bucket box [i0, i1] overlaps each bucket."""
+def _bucket_cells(i0, i1, lo, h, shape, affine):
+    """CSR lists, in ascending cell order, of the cells that reach into each bucket.
+
+    A cell is listed in the buckets of its bounding box [i0, i1] that its own
+    planes do not exclude (a tetrahedron fills a small part of its box, so this
+    shortens the lists by about 40% in 3D).
+    """
     start = np.zeros(int(np.prod(shape)) + 1, dtype=np.int64)
-    _visit_buckets(i0, i1, shape, start[1:], np.empty(0, dtype=np.int64), False)
+    _visit_buckets(i0, i1, lo, h, shape, affine, start[1:], np.empty(0, dtype=np.int64), False)
     np.cumsum(start, out=start)
     members = np.empty(start[-1], dtype=np.int64)
-    _visit_buckets(i0, i1, shape, start[:-1].copy(), members, True)
+    _visit_buckets(i0, i1, lo, h, shape, affine, start[:-1].copy(), members, True)
     return start, members
 
 
 @numba.njit(cache=True, nogil=True)
-def _visit_buckets(i0, i1, shape, slot, members, fill):  # pragma: no cover
-    """Count the cells per bucket into ``slot``, or write them at ``slot`` (fill)."""
+def _visit_buckets(i0, i1, lo, h, shape, affine, slot, members, fill):  # pragma: no cover
+    """Count the cells per bucket into ``slot``, or write them at ``slot`` (fill).
+
+    A bucket of a cell's box is skipped when one barycentric coordinate of the
+    cell stays below -MARGIN over the whole (slightly enlarged) bucket: the
+    largest value of an affine function over a box is its value at the centre
+    plus the sum of |slope| * half-width.  Values at bucket centres are stepped
+    along the grid axes.
+    """
     m, g = i0.shape
-    lo = np.zeros(3, dtype=np.int64)
-    hi = np.zeros(3, dtype=np.int64)
+    half = 0.5 * h * (1.0 + 1e-6) + 1e-9
+    slope = np.zeros((3, g + 1))  # change of each coordinate per bucket along each axis
+    top = np.empty(g + 1)  # value at the first bucket's centre plus the reach
+    vi = np.empty(g + 1)
+    vj = np.empty(g + 1)
+    step = np.empty(g + 1)  # buckets along the third axis per unit of each coordinate
+    lo3 = np.zeros(3, dtype=np.int64)
+    hi3 = np.zeros(3, dtype=np.int64)
     for c in range(m):
+        top[0] = 1.0
+        for b in range(g):
+            top[b + 1] = affine[c, g, b]
+            top[0] -= affine[c, g, b]
         for a in range(g):
-            lo[a] = i0[c, a]
-            hi[a] = i1[c, a]
-        for i in range(lo[0], hi[0] + 1):
-            for j in range(lo[1], hi[1] + 1):
-                for k in range(lo[2], hi[2] + 1):
-                    b = i
-                    if g > 1:
-                        b = b * shape[1] + j
-                    if g > 2:
-                        b = b * shape[2] + k
+            lo3[a] = i0[c, a]
+            hi3[a] = i1[c, a]
+            x = lo[a] + (i0[c, a] + 0.5) * h[a]
+            s = 0.0
+            for b in range(g):
+                top[b + 1] += x * affine[c, a, b] + abs(affine[c, a, b]) * half[a]
+                slope[a, b + 1] = affine[c, a, b] * h[a]
+                s += affine[c, a, b]
+            top[0] += -x * s + abs(s) * half[a]
+            slope[a, 0] = -s * h[a]
+        room = hi3[2] - lo3[2] + 1.0
+        for b in range(g + 1):
+            vi[b] = top[b]
+            step[b] = 1.0 / slope[2, b] if slope[2, b] != 0.0 else 0.0
+        for i in range(lo3[0], hi3[0] + 1):
+            for b in range(g + 1):
+                vj[b] = vi[b]
+            for j in range(lo3[1], hi3[1] + 1):
+                # each coordinate is affine along the third axis: the buckets kept
+                # there form one run [k0, k1]
+                k0, k1 = lo3[2], hi3[2]
+                for b in range(g + 1):
+                    if step[b] == 0.0:
+                        if vj[b] < -MARGIN:
+                            k1 = k0 - 1
+                        continue
+                    # steps along k until coordinate b reaches -MARGIN, within [-1, n + 1];
+                    # selects rather than branches on the sign of the slope
+                    t = min(max((-MARGIN - vj[b]) * step[b], -1.0), room)
+                    up = step[b] > 0.0
+                    k0 = max(k0, lo3[2] - int(room + 2.0 - t) + int(room + 2.0) if up else k0)
+                    k1 = min(k1, k1 if up else lo3[2] + int(t + 1.0) - 1)
+                bucket = i
+                if g > 1:
+                    bucket = bucket * shape[1] + j
+                if g > 2:
+                    bucket = bucket * shape[2]
+                for k in range(k0, k1 + 1):
                     if fill:
-                        members[slot[b]] = c
-                    slot[b] += 1
+                        members[slot[bucket + k]] = c
+                    slot[bucket + k] += 1
+                for b in range(g + 1):
+                    vj[b] += slope[1, b]
+            for b in range(g + 1):
+                vi[b] += slope[0, b]
 
 
 def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.ndarray) -> None:
     flat = np.empty(len(x), dtype=np.int64)
-    same = _bucket_of(x, index.lo, index.h, index.shape, flat)
-    # visiting the points bucket by bucket keeps the cell data in cache; points that
-    # already come in coherent order (a raster, a survey line) need no sort
-    order = np.arange(len(x)) if same > 0.5 * len(x) else np.argsort(flat)
+    _bucket_of(x, index.lo, index.h, index.shape, flat)
+    # visiting the points bucket by bucket keeps the cell data in cache; both orders
+    # are the same (stable by bucket), counting wins unless buckets far outnumber points
+    if 8 * len(x) < index.n_buckets:
+        order = np.argsort(flat, kind="stable")
+    else:
+        order = _counting_order(flat, index.n_buckets)
     _scan(x, flat, order, index.start, index.members, index.affine, cells, bary)
 
 
 @numba.njit(cache=True, nogil=True)
 def _bucket_of(x, lo, h, shape, flat):  # pragma: no cover
-    """Bucket of each point (-1 outside the grid or NaN); returns how many share the
-    bucket of the point before them."""
+    """Bucket of each point, -1 outside the grid or NaN."""
     n, g = x.shape
-    same = 0
     for p in range(n):
         b = 0
         for a in range(g):
@@ -260,40 +322,71 @@ def _bucket_of(x, lo, h, shape, flat):  # pragma: no cover
                 break
             b = b * shape[a] + int(v)
         flat[p] = b
-        if p > 0 and b == flat[p - 1]:
-            same += 1
-    return same
+
+
+@numba.njit(cache=True, nogil=True)
+def _counting_order(flat, n_buckets):  # pragma: no cover
+    """Stable order of the points by bucket (points outside first), by counting."""
+    first = np.zeros(n_buckets + 2, dtype=np.int64)
+    for b in flat:
+        first[b + 2] += 1
+    for b in range(2, n_buckets + 2):
+        first[b] += first[b - 1]
+    order = np.empty(flat.size, dtype=np.int64)
+    for p in range(flat.size):
+        order[first[flat[p] + 1]] = p
+        first[flat[p] + 1] += 1
+    return order
 
 
 @numba.njit(cache=True, nogil=True)
 def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cover
+    """Test the cells of each point's bucket, visiting points in ``order``.
+
+    The points are copied in that order first and the results scattered back at
+    the end, so the scan itself reads and writes memory in sequence.
+    """
     n, g = x.shape
+    xs = np.empty((n, g))
+    fs = np.empty(n, dtype=np.int64)
+    for i in range(n):
+        fs[i] = flat[order[i]]
+        for a in range(g):
+            xs[i, a] = x[order[i], a]
+    found = np.full(n, -1, dtype=np.int64)
+    coords = np.empty((n, g + 1))
     lam = np.empty(g + 1)
-    for p in order:
-        if flat[p] < 0:
+    for i in range(n):
+        if fs[i] < 0:
             continue
         best = -np.inf
-        for j in range(start[flat[p]], start[flat[p] + 1]):
+        for j in range(start[fs[i]], start[fs[i] + 1]):
             c = members[j]
             s = 0.0
             mn = np.inf
             for b in range(g):
                 v = affine[c, g, b]
                 for a in range(g):
-                    v += x[p, a] * affine[c, a, b]
+                    v += xs[i, a] * affine[c, a, b]
                 lam[b + 1] = v
                 s += v
                 mn = min(mn, v)
             lam[0] = 1.0 - s
             mn = min(mn, lam[0])
             # members are in ascending cell order, so a tie keeps the lower index
-            if mn >= -TOLERANCE and (cells[p] < 0 or mn > best + TIE):
+            if mn >= -TOLERANCE and (found[i] < 0 or mn > best + TIE):
                 best = mn
-                cells[p] = c
+                found[i] = c
                 for b in range(g + 1):
-                    bary[p, b] = lam[b]
+                    coords[i, b] = lam[b]
                 if mn > TIE:
                     break  # strictly inside: cells do not overlap, no other can be deeper
+    for i in range(n):
+        if found[i] >= 0:
+            p = order[i]
+            cells[p] = found[i]
+            for b in range(g + 1):
+                bary[p, b] = coords[i, b]
 
 
 @numba.njit(cache=True, nogil=True)

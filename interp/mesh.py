@@ -16,6 +16,7 @@ from functools import cached_property
 from math import comb, factorial
 from typing import TYPE_CHECKING
 
+import numba
 import numpy as np
 
 from interp.basis import EDGES
@@ -170,13 +171,51 @@ def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     >>> float(vol[0]), float(size[0])
     (1.0, 2.0)
     """
-    edges = corners[:, 1:, :] - corners[:, :1, :]
-    t, g = edges.shape[1], edges.shape[2]
-    if t == g:
-        vol = np.abs(det(edges))
-    else:
-        vol = np.sqrt(np.maximum(det(np.einsum("mig,mjg->mij", edges, edges)), 0.0))
-    return vol / factorial(t), np.abs(edges).max(axis=(1, 2))
+    corners = np.ascontiguousarray(corners, dtype=np.float64)
+    vol = np.empty(corners.shape[0])
+    size = np.empty(corners.shape[0])
+    _geometry(corners, vol, size)
+    return vol / factorial(corners.shape[1] - 1), size
+
+
+@numba.njit(cache=True, nogil=True)
+def _det(a, n):  # pragma: no cover
+    """Determinant of the leading n x n block of a (n <= 3), expanded as :func:`det`."""
+    if n == 1:
+        return a[0, 0]
+    if n == 2:
+        return a[0, 0] * a[1, 1] - a[0, 1] * a[1, 0]
+    return (
+        a[0, 0] * (a[1, 1] * a[2, 2] - a[1, 2] * a[2, 1])
+        - a[0, 1] * (a[1, 0] * a[2, 2] - a[1, 2] * a[2, 0])
+        + a[0, 2] * (a[1, 0] * a[2, 1] - a[1, 1] * a[2, 0])
+    )
+
+
+@numba.njit(cache=True, nogil=True)
+def _geometry(corners, vol, size):  # pragma: no cover
+    """|det E| (or sqrt det E E^T) and the largest |E| entry of each simplex's edges E."""
+    m, k, g = corners.shape
+    t = k - 1
+    e = np.empty((3, 3))
+    gram = np.empty((3, 3))
+    for c in range(m):
+        big = 0.0
+        for r in range(t):
+            for a in range(g):
+                e[r, a] = corners[c, r + 1, a] - corners[c, 0, a]
+                big = max(big, abs(e[r, a]))
+        size[c] = big
+        if t == g:
+            vol[c] = abs(_det(e, t))
+            continue
+        for r in range(t):
+            for q in range(t):
+                s = 0.0
+                for a in range(g):
+                    s += e[r, a] * e[q, a]
+                gram[r, q] = s
+        vol[c] = np.sqrt(max(_det(gram, t), 0.0))
 
 
 class Mesh:
@@ -482,21 +521,35 @@ def _infer_kind(k: int, g: int, cell_type: str | None) -> tuple[int, int]:
 
 
 def _check_indices(cells: np.ndarray, n: int) -> None:
-    bad = (cells < 0) | (cells >= n)
-    if bad.any():
-        row = int(np.flatnonzero(bad.any(axis=1))[0])
+    out_of_range, repeated = _bad_cells(cells, n)
+    if out_of_range.size:
+        row = int(out_of_range[0])
         raise InterpError(
-            f"cells refer to nodes outside 0..{n - 1}: {int(bad.any(axis=1).sum())} cell(s), "
+            f"cells refer to nodes outside 0..{n - 1}: {out_of_range.size} cell(s), "
             f"the first is cell {row} = {cells[row].tolist()}"
         )
-    srt = np.sort(cells, axis=1)
-    rep = (srt[:, 1:] == srt[:, :-1]).any(axis=1)
-    if rep.any():
-        row = int(np.flatnonzero(rep)[0])
+    if repeated.size:
+        row = int(repeated[0])
         raise InterpError(
-            f"{int(rep.sum())} cell(s) repeat a node, the first is cell {row} = "
+            f"{repeated.size} cell(s) repeat a node, the first is cell {row} = "
             f"{cells[row].tolist()}; each cell needs distinct nodes"
         )
+
+
+@numba.njit(cache=True, nogil=True)
+def _bad_cells(cells, n):  # pragma: no cover
+    """Cells with a node index outside 0..n-1, and cells that repeat a node."""
+    m, k = cells.shape
+    out_of_range = np.zeros(m, dtype=np.bool_)
+    repeated = np.zeros(m, dtype=np.bool_)
+    for c in range(m):
+        for i in range(k):
+            if cells[c, i] < 0 or cells[c, i] >= n:
+                out_of_range[c] = True
+            for j in range(i):
+                if cells[c, i] == cells[c, j]:
+                    repeated[c] = True
+    return np.flatnonzero(out_of_range), np.flatnonzero(repeated)
 
 
 def _check_measure(mesh: Mesh) -> None:

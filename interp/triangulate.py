@@ -78,17 +78,23 @@ def triangulate(
     d = pts.shape[1]
     if pts.shape[0] < d + 1:
         raise InterpError(f"a {d}D triangulation needs at least {d + 1} points; got {pts.shape[0]}")
-    uniq, _ = merge_duplicates(pts)
-    if len(uniq) < len(pts):
-        warnings.warn(
-            f"{len(pts) - len(uniq)} duplicate point(s) merged before triangulating",
-            stacklevel=2,
-        )
-    if len(uniq) < d + 1:
+    x = _normalised(pts)
+    if _flat(x):
+        uniq = _distinct(pts)[0]
+        if len(uniq) < d + 1:
+            raise InterpError(
+                f"a {d}D triangulation needs at least {d + 1} distinct points; got {len(uniq)}"
+            )
+        what = "collinear" if d == 2 else "coplanar"
         raise InterpError(
-            f"a {d}D triangulation needs at least {d + 1} distinct points; got {len(uniq)}"
+            f"the points are {what}: a {d}D triangulation needs points spread in {d} "
+            f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells = _delaunay(uniq)
+    cells, every_vertex = _delaunay(x)
+    uniq = pts
+    if not every_vertex:  # duplicates are never vertices: merging is needed only now
+        uniq, inverse = _distinct(pts)
+        cells = inverse[cells]
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
         keep &= _longest_edge(uniq, cells) <= _positive(max_edge, "max_edge")
@@ -111,26 +117,47 @@ def _positive(value: float, name: str) -> float:
     return v
 
 
-def _delaunay(points: np.ndarray) -> np.ndarray:
-    d = points.shape[1]
-    if d == 1:
-        order = np.argsort(points[:, 0], kind="stable")
-        return np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
-    lo, hi = points.min(axis=0), points.max(axis=0)
-    x = (points - 0.5 * (lo + hi)) / (0.5 * (hi - lo).max())
-    sv = np.linalg.svd(x - x.mean(axis=0), compute_uv=False)
-    if sv[-1] <= 1e-10 * sv[0]:
-        what = "collinear" if d == 2 else "coplanar"
-        raise InterpError(
-            f"the points are {what}: a {d}D triangulation needs points spread in {d} "
-            f"dimensions (use {d - 1}D coordinates instead)"
+def _distinct(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`merge_duplicates`, with a warning when any were merged."""
+    uniq, inverse = merge_duplicates(points)
+    if len(uniq) < len(points):
+        warnings.warn(
+            f"{len(points) - len(uniq)} duplicate point(s) merged before triangulating",
+            stacklevel=3,
         )
-    try:
-        cells = Delaunay(x).simplices.astype(np.int64)
-    except QhullError as exc:
-        raise InterpError(f"Delaunay triangulation failed: {str(exc).splitlines()[0]}") from None
+    return uniq, inverse
+
+
+def _normalised(points: np.ndarray) -> np.ndarray:
+    """Points centred on their bounding box and scaled to [-1, 1] (Qhull's accuracy)."""
+    lo, hi = points.min(axis=0), points.max(axis=0)
+    return (points - 0.5 * (lo + hi)) / ((0.5 * (hi - lo).max()) or 1.0)
+
+
+def _flat(x: np.ndarray) -> bool:
+    """True when the points span fewer dimensions than they have coordinates."""
+    sv = np.linalg.svd(x - x.mean(axis=0), compute_uv=False)
+    return bool(sv[-1] <= 1e-10 * sv[0])
+
+
+def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
+    """Delaunay cells of normalised points without zero-volume slivers, and whether
+    every point is a vertex (when not, some may be duplicates)."""
+    d = x.shape[1]
+    if d == 1:
+        order = np.argsort(x[:, 0], kind="stable")
+        cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
+        every_vertex = bool(np.all(np.diff(x[order, 0]) > 0))
+    else:
+        try:
+            tri = Delaunay(x)
+        except QhullError as exc:
+            msg = str(exc).splitlines()[0]
+            raise InterpError(f"Delaunay triangulation failed: {msg}") from None
+        cells = tri.simplices.astype(np.int64)
+        every_vertex = len(tri.coplanar) == 0
     vol, size = simplex_geometry(x[cells])
-    return cells[vol > SLIVER * size**d]
+    return cells[vol > SLIVER * size**d], every_vertex
 
 
 def _longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:

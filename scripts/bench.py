@@ -69,8 +69,8 @@ def bench_locate(small: bool) -> None:
         print(f"{d}D: {n:,} points, {nq:,} queries")
         warm = interp.Field(interp.triangulate(pts[:100]), vals[:100])
         warm(q[:10])  # compile the kernels once
-        t_ref_build = best_of(lambda pts=pts: Delaunay(pts), 2)
-        t_build = best_of(lambda pts=pts: interp.triangulate(pts).index, 2)
+        t_ref_build = best_of(lambda pts=pts: Delaunay(pts))
+        t_build = best_of(lambda pts=pts: interp.triangulate(pts).index)
         row("build (scipy: Delaunay alone)", t_build, t_ref_build)
         tri = Delaunay(pts)
         ref = LinearNDInterpolator(tri, vals)

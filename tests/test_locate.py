@@ -8,7 +8,7 @@ from hypothesis import strategies as st
 from scipy.spatial import Delaunay
 
 from interp import InterpError, Mesh
-from interp.index import TOLERANCE
+from interp.index import TOLERANCE, _bucket_of, _counting_order
 
 
 def brute_force(mesh: Mesh, q: np.ndarray) -> np.ndarray:
@@ -53,6 +53,53 @@ def test_non_convex_mesh_with_hole_matches_brute_force(rng):
     assert np.array_equal(loc.inside, hit.any(axis=1))
     rows = np.flatnonzero(loc.inside)
     assert hit[rows, loc.cells[rows]].all()
+
+
+@pytest.mark.parametrize("d, n", [(2, 300), (3, 200)])
+def test_bucket_lists_hold_every_cell_that_can_contain_a_point(rng, d, n):
+    # the index leaves a cell off a bucket's list when the cell's planes miss the
+    # bucket; checked against brute force on the hardest points: mesh vertices,
+    # points on faces and edges, and points just outside by half the tolerance
+    pts = rng.random((n, d))
+    mesh = Mesh(pts, Delaunay(pts).simplices)
+    corners = mesh.points[mesh.corners]
+    w = rng.random((800, d + 1))
+    face = rng.integers(0, d + 1, 800)
+    w[np.arange(800), face] = 0.0  # on a face
+    w[np.arange(100), (face[:100] + 1) % (d + 1)] = 0.0  # on an edge (3D) or at a vertex (2D)
+    w /= w.sum(axis=1, keepdims=True)
+    w[400:, face[400:]] = -TOLERANCE / 4  # just outside the face
+    pick = rng.integers(0, mesh.n_cells, 800)
+    on_faces = np.einsum("pk,pkg->pg", w, corners[pick])
+    q = np.vstack([mesh.points, on_faces, rng.random((400, d))])
+    index = mesh.index
+    x = (q - index.center) / index.scale
+    flat = np.empty(len(q), dtype=np.int64)
+    _bucket_of(x, index.lo, index.h, index.shape, flat)
+    lam = brute_force(mesh, q)
+    near = lam.min(axis=2) >= -TOLERANCE / 2
+    for p, c in zip(*np.nonzero(near), strict=True):
+        listed = index.members[index.start[flat[p]] : index.start[flat[p] + 1]]
+        assert c in listed, f"cell {c} missing from the bucket of point {p}"
+    # the answers on these points agree with brute force too
+    loc = mesh.locate(q)
+    assert np.array_equal(loc.inside, (lam.min(axis=2) >= -TOLERANCE).any(axis=1))
+
+
+def test_counting_order_is_a_stable_sort(rng):
+    # reference: numpy's stable argsort; points outside (-1) come first
+    flat = rng.integers(-1, 50, 5000)
+    np.testing.assert_array_equal(_counting_order(flat, 50), np.argsort(flat, kind="stable"))
+
+
+def test_few_and_many_queries_agree(rng):
+    # a handful of points is ordered by sorting, a large batch by counting buckets
+    mesh = cube_mesh(6)
+    q = rng.random((20000, 3))
+    many = mesh.locate(q)
+    few = mesh.locate(q[:5])
+    np.testing.assert_array_equal(few.cells, many.cells[:5])
+    np.testing.assert_array_equal(few.bary, many.bary[:5])
 
 
 def test_shared_vertex_deterministic():

@@ -30,6 +30,19 @@ def test_duplicates_merged_with_warning(rng):
     np.testing.assert_array_equal(mesh.points, pts)
 
 
+@pytest.mark.parametrize("d", [1, 3])
+def test_duplicates_merged_in_one_and_three_dimensions(rng, d):
+    # reference: scipy.spatial.ConvexHull volume of the distinct points (in 1D, max - min)
+    pts = rng.random((200, d))
+    dup = np.vstack([pts[:10], pts, pts[5:7]])
+    with pytest.warns(UserWarning, match="12 duplicate point"):
+        mesh = triangulate(dup)
+    # nodes are the distinct points in first-seen order
+    np.testing.assert_array_equal(mesh.points, np.vstack([pts[:10], pts[10:]]))
+    hull = np.ptp(pts) if d == 1 else ConvexHull(pts).volume
+    assert mesh.measure().sum() == pytest.approx(hull, rel=1e-12)
+
+
 def test_max_edge_mask():
     # a 3 x 3 lattice with one far point: max_edge removes the cells reaching it
     x = np.array([[i, j] for i in range(3) for j in range(3)], dtype=float)
