@@ -232,26 +232,27 @@ def _visit_buckets(i0, i1, lo, h, shape, affine, slot, members, fill):  # pragma
     A bucket of a cell's box is skipped when one barycentric coordinate of the
     cell stays below -MARGIN over the whole (slightly enlarged) bucket: the
     largest value of an affine function over a box is its value at the centre
-    plus the sum of |slope| * half-width.  Values at bucket centres are stepped
-    along the grid axes.
+    plus the sum of |slope| * half-width.  Each coordinate is affine along the
+    last grid axis, so the buckets kept in a row of the box along that axis form
+    one run, found from where each coordinate crosses -MARGIN; values at bucket
+    centres are stepped along the other axes.
     """
     m, g = i0.shape
+    last = g - 1
     half = 0.5 * h * (1.0 + 1e-6) + 1e-9
-    slope = np.zeros((3, g + 1))  # change of each coordinate per bucket along each axis
+    slope = np.zeros((g, g + 1))  # change of each coordinate per bucket along each axis
     top = np.empty(g + 1)  # value at the first bucket's centre plus the reach
     vi = np.empty(g + 1)
     vj = np.empty(g + 1)
-    step = np.empty(g + 1)  # buckets along the third axis per unit of each coordinate
-    lo3 = np.zeros(3, dtype=np.int64)
-    hi3 = np.zeros(3, dtype=np.int64)
+    step = np.empty(g + 1)  # buckets along the last axis per unit of each coordinate
+    outer0 = np.zeros(2, dtype=np.int64)  # the box along the axes before the last
+    outer1 = np.zeros(2, dtype=np.int64)
     for c in range(m):
         top[0] = 1.0
         for b in range(g):
             top[b + 1] = affine[c, g, b]
             top[0] -= affine[c, g, b]
         for a in range(g):
-            lo3[a] = i0[c, a]
-            hi3[a] = i1[c, a]
             x = lo[a] + (i0[c, a] + 0.5) * h[a]
             s = 0.0
             for b in range(g):
@@ -260,41 +261,44 @@ def _visit_buckets(i0, i1, lo, h, shape, affine, slot, members, fill):  # pragma
                 s += affine[c, a, b]
             top[0] += -x * s + abs(s) * half[a]
             slope[a, 0] = -s * h[a]
-        room = hi3[2] - lo3[2] + 1.0
+        for a in range(g - 1):
+            outer0[a] = i0[c, a]
+            outer1[a] = i1[c, a]
+        r0 = i0[c, last]
+        room = i1[c, last] - r0 + 1.0
         for b in range(g + 1):
             vi[b] = top[b]
-            step[b] = 1.0 / slope[2, b] if slope[2, b] != 0.0 else 0.0
-        for i in range(lo3[0], hi3[0] + 1):
+            step[b] = 1.0 / slope[last, b] if slope[last, b] != 0.0 else 0.0
+        for i in range(outer0[0], outer1[0] + 1):
             for b in range(g + 1):
                 vj[b] = vi[b]
-            for j in range(lo3[1], hi3[1] + 1):
-                # each coordinate is affine along the third axis: the buckets kept
-                # there form one run [k0, k1]
-                k0, k1 = lo3[2], hi3[2]
+            for j in range(outer0[1], outer1[1] + 1):
+                k0, k1 = r0, i1[c, last]
                 for b in range(g + 1):
                     if step[b] == 0.0:
                         if vj[b] < -MARGIN:
                             k1 = k0 - 1
                         continue
-                    # steps along k until coordinate b reaches -MARGIN, within [-1, n + 1];
-                    # selects rather than branches on the sign of the slope
+                    # steps along the row until coordinate b reaches -MARGIN, within
+                    # [-1, room]; selects rather than branches on the sign of the slope
                     t = min(max((-MARGIN - vj[b]) * step[b], -1.0), room)
                     up = step[b] > 0.0
-                    k0 = max(k0, lo3[2] - int(room + 2.0 - t) + int(room + 2.0) if up else k0)
-                    k1 = min(k1, k1 if up else lo3[2] + int(t + 1.0) - 1)
-                bucket = i
-                if g > 1:
-                    bucket = bucket * shape[1] + j
+                    k0 = max(k0, r0 - int(room + 2.0 - t) + int(room + 2.0) if up else k0)
+                    k1 = min(k1, k1 if up else r0 + int(t + 1.0) - 1)
+                row = i if g > 1 else 0
                 if g > 2:
-                    bucket = bucket * shape[2]
+                    row = row * shape[1] + j
+                row *= shape[last]
                 for k in range(k0, k1 + 1):
                     if fill:
-                        members[slot[bucket + k]] = c
-                    slot[bucket + k] += 1
+                        members[slot[row + k]] = c
+                    slot[row + k] += 1
+                if g > 2:
+                    for b in range(g + 1):
+                        vj[b] += slope[1, b]
+            if g > 1:
                 for b in range(g + 1):
-                    vj[b] += slope[1, b]
-            for b in range(g + 1):
-                vi[b] += slope[0, b]
+                    vi[b] += slope[0, b]
 
 
 def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.ndarray) -> None:

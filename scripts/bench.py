@@ -37,6 +37,16 @@ def best_of(fn: Callable[[], object], repeat: int = 3) -> float:
     return min(times)
 
 
+def best_of_each(fns: list[Callable[[], object]], repeat: int = 5) -> list[float]:
+    """Smallest wall time of each function over ``repeat`` rounds that call them in
+    turn, so a slow spell on a shared machine falls on every side alike."""
+    times = [[] for _ in fns]
+    for _ in range(repeat):
+        for fn, t in zip(fns, times, strict=True):
+            t.append(best_of(fn, 1))
+    return [min(t) for t in times]
+
+
 def row(label: str, ours: float, ref: float, unit: str = "s") -> None:
     print(
         f"  {label:<44} interp {ours:9.4f} {unit}   reference {ref:9.4f} {unit}   "
@@ -69,8 +79,9 @@ def bench_locate(small: bool) -> None:
         print(f"{d}D: {n:,} points, {nq:,} queries")
         warm = interp.Field(interp.triangulate(pts[:100]), vals[:100])
         warm(q[:10])  # compile the kernels once
-        t_ref_build = best_of(lambda pts=pts: Delaunay(pts))
-        t_build = best_of(lambda pts=pts: interp.triangulate(pts).index)
+        t_build, t_ref_build = best_of_each(
+            [lambda pts=pts: interp.triangulate(pts).index, lambda pts=pts: Delaunay(pts)]
+        )
         row("build (scipy: Delaunay alone)", t_build, t_ref_build)
         tri = Delaunay(pts)
         ref = LinearNDInterpolator(tri, vals)
