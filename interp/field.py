@@ -54,7 +54,12 @@ class Field:
     ) -> None:
         if not isinstance(mesh, Mesh):
             raise InterpError(f"a Field needs an interp.Mesh, not {type(mesh).__name__}")
-        vals = np.asarray(values, dtype=np.float64)
+        try:
+            vals = np.asarray(values, dtype=np.float64)
+        except (TypeError, ValueError) as exc:
+            raise InterpError(
+                f"values must be numbers, one row per mesh node ({mesh.n_nodes} nodes): {exc}"
+            ) from None
         if vals.ndim not in (1, 2) or vals.shape[0] != mesh.n_nodes:
             raise InterpError(
                 f"values must have one row per mesh node: the mesh has {mesh.n_nodes} nodes, "

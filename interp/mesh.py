@@ -53,7 +53,12 @@ def as_points(points: object, name: str = "points", gdim: int | None = None) -> 
     >>> as_points([1.0, 2.0], gdim=2).shape
     (1, 2)
     """
-    arr = np.asarray(points, dtype=np.float64)
+    try:
+        arr = np.asarray(points, dtype=np.float64)
+    except (TypeError, ValueError) as exc:
+        raise InterpError(
+            f"{name} must be an (n, d) array of numbers with d in 1, 2 or 3: {exc}"
+        ) from None
     if arr.ndim == 1:
         arr = arr.reshape(1, -1) if gdim is not None and gdim > 1 else arr.reshape(-1, 1)
     if arr.ndim != 2 or arr.shape[1] not in (1, 2, 3):
@@ -259,7 +264,7 @@ class Mesh:
     """
 
     def __init__(self, points: object, cells: object, *, cell_type: str | None = None) -> None:
-        pts = as_points(points)
+        pts = as_points(points).copy()  # the mesh owns its nodes; the caller's array stays as is
         check_finite(pts)
         try:
             cel = np.asarray(cells)
@@ -288,6 +293,25 @@ class Mesh:
         _check_measure(self)
         if self._order == 2:
             _check_midpoints(self)
+
+    @classmethod
+    def _checked(
+        cls, points: np.ndarray, cells: np.ndarray, geometry: tuple[np.ndarray, np.ndarray]
+    ) -> Mesh:
+        """A P1 mesh of arrays its caller has checked, with their cell geometry.
+
+        ``points`` are finite (n, g) float64 that the mesh owns from now on,
+        ``cells`` (m, g + 1) int64 of distinct in-range nodes, and ``geometry``
+        what :func:`simplex_geometry` gives for them, every measure positive.
+        """
+        mesh = cls.__new__(cls)
+        mesh._dim, mesh._order = points.shape[1], 1
+        cells = np.ascontiguousarray(cells)
+        points.flags.writeable = False
+        cells.flags.writeable = False
+        mesh._points, mesh._cells = points, cells
+        mesh.__dict__["_geometry"] = geometry  # the cached property, already known
+        return mesh
 
     def __repr__(self) -> str:
         return (

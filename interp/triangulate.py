@@ -14,11 +14,8 @@ import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
 from interp.errors import InterpError
-from interp.mesh import Mesh, as_points, check_finite, simplex_geometry
+from interp.mesh import DEGENERATE, Mesh, as_points, check_finite, simplex_geometry
 from interp.polygon import as_ring, contains
-
-#: cells of Delaunay output with measure below this, relative to size**dim, are dropped.
-SLIVER = 1e-10
 
 
 def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -78,7 +75,7 @@ def triangulate(
     d = pts.shape[1]
     if pts.shape[0] < d + 1:
         raise InterpError(f"a {d}D triangulation needs at least {d + 1} points; got {pts.shape[0]}")
-    x = _normalised(pts)
+    x, scale = _normalised(pts)
     if _flat(x):
         uniq = _distinct(pts)[0]
         if len(uniq) < d + 1:
@@ -91,10 +88,14 @@ def triangulate(
             f"dimensions (use {d - 1}D coordinates instead)"
         )
     cells, every_vertex = _delaunay(x)
-    uniq = pts
-    if not every_vertex:  # duplicates are never vertices: merging is needed only now
+    vol, size = simplex_geometry(x[cells])
+    cells, vol, size = _drop_flat(cells, vol, size)
+    if every_vertex:
+        uniq, inverse = pts.copy(), None  # the mesh owns its nodes
+    else:  # duplicates are never vertices: merging is needed only now
         uniq, inverse = _distinct(pts)
         cells = inverse[cells]
+    _report_unused(uniq, cells, inverse)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
         keep &= _longest_edge(uniq, cells) <= _positive(max_edge, "max_edge")
@@ -107,14 +108,68 @@ def triangulate(
             "every cell was removed by the max_edge / boundary masks; "
             "use a larger max_edge or check that the boundary surrounds the points"
         )
-    return Mesh(uniq, cells[keep])
+    # Delaunay cells of checked points need no second check; their measures scale back
+    return Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
 
 
-def _positive(value: float, name: str) -> float:
-    v = float(value)
+def _positive(value: object, name: str) -> float:
+    try:
+        v = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        v = np.nan
     if not np.isfinite(v) or v <= 0:
-        raise InterpError(f"{name} must be a positive length; got {value}")
+        raise InterpError(f"{name} must be a positive length; got {value!r}")
     return v
+
+
+def _drop_flat(
+    cells: np.ndarray, vol: np.ndarray, size: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Drop the cells a :class:`Mesh` would refuse as having zero measure.
+
+    Qhull emits such cells where points are cospherical (a lattice) and, in 1D,
+    between duplicates; their volume is at rounding level and nothing is lost.
+    Cells of a nearly flat cloud carry real volume: dropping them is reported.
+    """
+    d = cells.shape[1] - 1
+    flat = vol <= DEGENERATE * size**d
+    if not flat.any():
+        return cells, vol, size
+    what = ("length", "area", "volume")[d - 1]
+    nearly = ("coincident", "collinear", "coplanar")[d - 1]
+    if flat.all():
+        raise InterpError(
+            f"every cell of the triangulation has zero {what}: the points are nearly "
+            f"{nearly}; use {d - 1}D coordinates or spread the points"
+        )
+    lost = vol[flat].sum() / vol.sum()
+    if lost > 1e-9:
+        warnings.warn(
+            f"{int(flat.sum())} cell(s) too thin to use were dropped, {lost:.2g} of the "
+            f"triangulated {what}: the points are nearly {nearly}",
+            stacklevel=3,
+        )
+    return cells[~flat], vol[~flat], size[~flat]
+
+
+def _report_unused(points: np.ndarray, cells: np.ndarray, inverse: np.ndarray | None) -> None:
+    """Warn about input points that are in no cell (before masking).
+
+    Qhull leaves out a point that lies within rounding distance of another
+    without being an exact duplicate; its value would be silently ignored.
+    """
+    used = np.zeros(len(points), dtype=bool)
+    used[cells.ravel()] = True
+    if inverse is not None:
+        used = used[inverse]
+    if not used.all():
+        missing = np.flatnonzero(~used)
+        warnings.warn(
+            f"{missing.size} point(s) are in no cell, the first at index {missing[0]}: they "
+            f"nearly coincide with other points or lie only in cells too thin to use; "
+            f"their values are not used (merge or remove them)",
+            stacklevel=3,
+        )
 
 
 def _distinct(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -128,10 +183,12 @@ def _distinct(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return uniq, inverse
 
 
-def _normalised(points: np.ndarray) -> np.ndarray:
-    """Points centred on their bounding box and scaled to [-1, 1] (Qhull's accuracy)."""
+def _normalised(points: np.ndarray) -> tuple[np.ndarray, float]:
+    """Points centred on their bounding box and divided by the returned scale, so
+    they fill [-1, 1] (Qhull's accuracy)."""
     lo, hi = points.min(axis=0), points.max(axis=0)
-    return (points - 0.5 * (lo + hi)) / ((0.5 * (hi - lo).max()) or 1.0)
+    scale = float(0.5 * (hi - lo).max()) or 1.0
+    return (points - 0.5 * (lo + hi)) / scale, scale
 
 
 def _flat(x: np.ndarray) -> bool:
@@ -141,23 +198,19 @@ def _flat(x: np.ndarray) -> bool:
 
 
 def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
-    """Delaunay cells of normalised points without zero-volume slivers, and whether
-    every point is a vertex (when not, some may be duplicates)."""
+    """Delaunay cells of normalised points, and whether every point is a vertex
+    (when not, some may be duplicates)."""
     d = x.shape[1]
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
         cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
-        every_vertex = bool(np.all(np.diff(x[order, 0]) > 0))
-    else:
-        try:
-            tri = Delaunay(x)
-        except QhullError as exc:
-            msg = str(exc).splitlines()[0]
-            raise InterpError(f"Delaunay triangulation failed: {msg}") from None
-        cells = tri.simplices.astype(np.int64)
-        every_vertex = len(tri.coplanar) == 0
-    vol, size = simplex_geometry(x[cells])
-    return cells[vol > SLIVER * size**d], every_vertex
+        return cells, bool(np.all(np.diff(x[order, 0]) > 0))
+    try:
+        tri = Delaunay(x)
+    except QhullError as exc:
+        msg = str(exc).splitlines()[0]
+        raise InterpError(f"Delaunay triangulation failed: {msg}") from None
+    return tri.simplices.astype(np.int64), len(tri.coplanar) == 0
 
 
 def _longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:

@@ -115,3 +115,8 @@ def test_large_offsets_match_shifted_data(rng):
 def test_value_length_mismatch():
     with pytest.raises(InterpError, match="4 nodes.*shape \\(3,\\)"):
         Field(square_mesh(1), [1.0, 2.0, 3.0])
+
+
+def test_non_numeric_values_named():
+    with pytest.raises(InterpError, match="values must be numbers, one row per mesh node"):
+        Field(square_mesh(1), ["a", "b", "c", "d"])

@@ -88,6 +88,15 @@ def test_attributes():
         mesh.points[0, 0] = 5.0
 
 
+def test_mesh_owns_its_nodes():
+    # the caller's array stays writable, and changing it later leaves the mesh as built
+    pts = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+    mesh = Mesh(pts, [[0, 1, 2]])
+    pts[1, 0] = 3.0
+    assert mesh.points[1, 0] == 1.0
+    assert mesh.measure().tolist() == [0.5]
+
+
 def test_line3_in_1d():
     mesh = Mesh([0.0, 2.0, 1.0], [[0, 1, 2]])
     assert mesh.cell_type == "line3"

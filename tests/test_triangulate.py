@@ -1,10 +1,13 @@
 """Delaunay triangulation, duplicate merging, masks and degenerate input."""
 
+from math import factorial
+
 import numpy as np
 import pytest
 from scipy.spatial import ConvexHull, Delaunay
 
 from interp import InterpError, triangulate
+from interp.triangulate import _drop_flat
 
 
 @pytest.mark.parametrize("d", [2, 3])
@@ -102,3 +105,58 @@ def test_cospherical_lattice_3d_has_no_slivers():
     pts = np.stack(np.meshgrid(x, x, x, indexing="ij"), -1).reshape(-1, 3)
     mesh = triangulate(pts)
     assert mesh.measure().sum() == pytest.approx(1.0, rel=1e-12)
+
+
+@pytest.mark.parametrize("d", [1, 2, 3])
+def test_measures_and_owned_nodes_at_survey_offsets(rng, d):
+    # reference: simplex measure |det E| / d! of the edge vectors E (numpy's det),
+    # computed on the coordinates shifted to the origin, so the offset costs nothing
+    offset = np.array([5e5, 5e6, 120.0])[:d]
+    pts = rng.random((400, d)) * 50 + offset
+    local = pts - offset  # exact: both terms are within a factor of two of each other
+    mesh = triangulate(pts)
+    corners = local[mesh.cells]
+    edges = corners[:, 1:] - corners[:, :1]
+    expected = np.abs(np.linalg.det(edges)) / factorial(d)
+    np.testing.assert_allclose(mesh.measure(), expected, rtol=1e-9)
+    # the mesh keeps its own copy of the nodes; the caller's array stays writable
+    pts[0] += 1.0
+    np.testing.assert_array_equal(mesh.points[0], local[0] + offset)
+
+
+def test_thin_cloud_reports_the_cells_it_drops(rng):
+    # reference: scipy.spatial.ConvexHull volume; a cloud 1e-9 as thick as it is wide has
+    # Delaunay cells too thin for a Mesh (relative volume <= 1e-12): dropping them is said
+    pts = rng.random((2000, 3))
+    pts[:, 2] *= 1e-9
+    with pytest.warns(UserWarning, match="cell\\(s\\) too thin to use were dropped"):
+        mesh = triangulate(pts)
+    hull = ConvexHull(pts).volume
+    assert 0.99 * hull < mesh.measure().sum() < hull
+
+
+def test_no_cell_left_after_dropping_flat_ones():
+    # a guard: the coplanar check before Qhull refuses such input in practice, so the
+    # dropping step is given cells of zero volume directly
+    cells = np.array([[0, 1, 2, 3]])
+    with pytest.raises(InterpError, match="every cell .* zero volume: the points are nearly"):
+        _drop_flat(cells, np.zeros(1), np.ones(1))
+
+
+def test_point_left_out_by_qhull_is_reported(rng):
+    # a point 1e-15 from another is not an exact duplicate, yet Qhull cannot use both
+    pts = rng.random((100, 2))
+    near = np.vstack([pts, pts[5] + 1e-15])
+    with pytest.warns(UserWarning, match="1 point\\(s\\) are in no cell, the first at index"):
+        mesh = triangulate(near)
+    assert mesh.n_nodes == 101
+    assert np.unique(mesh.cells).size == 100
+
+
+def test_non_numeric_input_named():
+    with pytest.raises(InterpError, match="points must be an \\(n, d\\) array of numbers"):
+        triangulate([["a", "b"], [1, 2], [3, 4]])
+    with pytest.raises(InterpError, match="points must be an \\(n, d\\) array of numbers"):
+        triangulate([[0.0, 1.0], [2.0]])
+    with pytest.raises(InterpError, match="max_edge must be a positive length; got 'abc'"):
+        triangulate(np.eye(3)[:, :2] + [[0, 0], [0, 0], [1, 1]], max_edge="abc")
