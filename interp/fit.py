@@ -91,7 +91,9 @@ def samples(points: object, values: object, order: int) -> Samples:
     """Validate scattered data for :func:`fit` and :func:`interp.crossvalidate`.
 
     Warns with the number of rows dropped for NaN values and of duplicate
-    points merged (their values averaged).
+    points merged (their values averaged).  Raises when NaN values leave
+    fewer than d + 1 rows with values, saying how many have values and how
+    many are missing.
 
     Examples
     --------
@@ -123,6 +125,19 @@ def samples(points: object, values: object, order: int) -> Samples:
             "points are dropped)"
         )
     valid = ~np.isnan(vals).any(axis=1)
+    have, need = int(valid.sum()), pts.shape[1] + 1
+    if have < need and not valid.all():
+        missing = len(valid) - have
+        if have == 0:
+            raise InterpError(
+                f"all values are missing (NaN) at the {missing} point(s) given; nothing to "
+                f"fit: pass measured values at {need} or more of the points (NaN marks no data)"
+            )
+        raise InterpError(
+            f"only {have} of {len(valid)} point(s) have values, {missing} are missing (NaN); "
+            f"fitting {need - 1}D data needs values at {need} or more points: pass more "
+            "measured values"
+        )
     if not valid.all():
         warnings.warn(
             f"{int((~valid).sum())} point(s) with NaN values dropped before fitting",
@@ -165,7 +180,8 @@ def fit(
         warning giving how many were merged.
     values : array_like (n,) or (n, c)
         One value, or c components, per point.  Rows holding a NaN are
-        dropped with a warning giving how many; infinite values are refused.
+        dropped with a warning giving how many; fewer than d + 1 rows left
+        with values, or infinite values, are refused.
     order : {1, 2}
         1: the data are the node values of a linear (P1) field.  2: a
         quadratic (P2) field on ``mesh.elevate()``, corners at the data and

@@ -230,3 +230,40 @@ def test_bad_input():
     with pytest.raises(InterpError, match="infinite at row 2"):
         fit(pts, np.where(np.arange(10) == 2, np.inf, 0.0))
     assert isinstance(fit(pts, np.zeros(10)), Field)
+
+
+def test_all_values_missing_is_refused(rng):
+    # NaN marks no data: with no value at all there is nothing to fit
+    pts = rng.random((10, 2))
+    with pytest.raises(
+        InterpError, match=r"all values are missing \(NaN\) at the 10 point\(s\) given.* 3 or more"
+    ):
+        fit(pts, np.full(10, np.nan))
+    # two components, each row missing one of them: no row has values
+    vals = np.ones((10, 2))
+    vals[::2, 0] = vals[1::2, 1] = np.nan
+    with pytest.raises(InterpError, match=r"all values are missing \(NaN\) at the 10 point"):
+        fit(pts, vals, order=2)
+
+
+@pytest.mark.parametrize(("d", "have"), [(1, 1), (2, 2), (3, 3)])
+def test_fewer_than_d_plus_one_values_is_refused(rng, d, have):
+    z = np.full(12, np.nan)
+    z[:have] = 1.0
+    with pytest.raises(
+        InterpError,
+        match=rf"only {have} of 12 point\(s\) have values, {12 - have} are missing \(NaN\); "
+        rf"fitting {d}D data needs values at {d + 1} or more points",
+    ):
+        fit(rng.random((12, d)), z)
+
+
+def test_d_plus_one_values_are_enough(rng):
+    # three values in 2D: one triangle, and P1 at its centroid is the mean of the corner values
+    pts = rng.random((10, 2))
+    z = np.full(10, np.nan)
+    z[[2, 5, 7]] = [1.0, 2.0, 6.0]
+    with pytest.warns(UserWarning, match="7 point\\(s\\) with NaN values dropped"):
+        field = fit(pts, z)
+    assert field.mesh.n_cells == 1
+    assert field([pts[[2, 5, 7]].mean(axis=0)])[0] == pytest.approx(3.0, rel=1e-12)

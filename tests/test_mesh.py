@@ -1,12 +1,14 @@
 """Mesh construction, validation, measure and elevation."""
 
+from itertools import combinations
 from math import comb, factorial, sqrt
 
 import numpy as np
 import pytest
 from conftest import cube_mesh, square_mesh
 
-from interp import InterpError, Mesh
+from interp import InterpError, Mesh, triangulate
+from interp.basis import EDGES
 
 
 def regular_simplex(n: int) -> np.ndarray:
@@ -63,6 +65,24 @@ def test_elevate_single_simplex_edge_count(n):
     mesh = Mesh(regular_simplex(n), [list(range(n + 1))]).elevate()
     assert mesh.n_nodes == n + 1 + comb(n + 1, 2)
     assert mesh.order == 2
+
+
+@pytest.mark.parametrize(("d", "n"), [(1, 30), (2, 300), (3, 200)])
+def test_edges_match_a_set_of_corner_pairs(rng, d, n):
+    # reference: every pair of corners of every cell, collected in a plain Python set of
+    # sorted tuples (the edges of a simplicial mesh by definition), then sorted
+    mesh = triangulate(rng.random((n, d)))
+    cells = mesh.cells.tolist()
+    expected = sorted({tuple(sorted(pair)) for cell in cells for pair in combinations(cell, 2)})
+    edges, cell_edges = mesh.edges()
+    assert edges.dtype == np.int64 and cell_edges.dtype == np.int64
+    assert [tuple(e) for e in edges.tolist()] == expected
+    # each cell's row points at its own corner pairs, in the local order of basis.EDGES
+    assert cell_edges.shape == (mesh.n_cells, len(EDGES[d]))
+    for cell, rows in zip(cells, cell_edges.tolist(), strict=True):
+        assert [tuple(edges[r].tolist()) for r in rows] == [
+            tuple(sorted((cell[i], cell[j]))) for i, j in EDGES[d]
+        ]
 
 
 def test_elevate_shares_midpoints():

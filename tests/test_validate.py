@@ -188,6 +188,8 @@ def test_bad_input(rng):
         crossvalidate(pts, np.zeros(12), max_edge=-1.0)
     with pytest.raises(InterpError, match="removes every cell"):
         crossvalidate(pts, np.zeros(12), max_edge=1e-6)
+    with pytest.raises(InterpError, match=r"all values are missing \(NaN\) at the 12 point"):
+        crossvalidate(pts, np.full(12, np.nan))
 
 
 def test_residual_summary():
