@@ -17,7 +17,7 @@ import json
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from interp.errors import InterpError
+from interp.errors import InterpError, RenderingUnavailable
 from interp.field import Field
 from interp.fit import fit
 from interp.grid import to_grid
@@ -71,6 +71,8 @@ class Summary:
             "the applicable survey standards and licensed practice before using them for "
             "payment, design or safety decisions."
         )
+        if "pictures" in f:
+            lines.append(f"  pictures {f['pictures']}")
         lines.append("Files:")
         lines += [f"  {p}" for p in self.files]
         return "\n".join(lines)
@@ -169,18 +171,21 @@ def run(
     if pictures and not _viewer_installed():
         summary.figures["pictures"] = "skipped: install the view extra (pyvista, matplotlib)"
     elif pictures:
-        summary.files += _pictures(
-            out,
-            june,
-            base,
-            surfaces["2026_03"],
-            change,
-            section,
-            (points, values["z"]),
-            residuals,
-            site,
-            temp,
-        )
+        try:
+            summary.files += _pictures(
+                out,
+                june,
+                base,
+                surfaces["2026_03"],
+                change,
+                section,
+                (points, values["z"]),
+                residuals,
+                site,
+                temp,
+            )
+        except RenderingUnavailable as exc:  # the figures and files above still stand
+            summary.figures["pictures"] = f"skipped: {exc}"
     with atomic_path(out / "summary.json") as tmp:
         tmp.write_text(json.dumps(summary.figures, indent=2) + "\n", encoding="utf-8")
     keep(out / "summary.json")

@@ -15,3 +15,17 @@ class InterpError(ValueError):
     >>> issubclass(InterpError, ValueError)
     True
     """
+
+
+class RenderingUnavailable(InterpError):
+    """No way to draw a picture here: no display and no off-screen OpenGL.
+
+    Raised by :mod:`interp.view` before it would let the rendering library
+    crash; the message names the system packages to install.
+
+    Examples
+    --------
+    >>> from interp.errors import InterpError, RenderingUnavailable
+    >>> issubclass(RenderingUnavailable, InterpError)
+    True
+    """

@@ -41,7 +41,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from interp.basis import EDGES, shape
-from interp.errors import InterpError
+from interp.errors import InterpError, RenderingUnavailable
 from interp.field import Field
 from interp.mesh import Mesh
 from interp.polygon import as_ring
@@ -868,7 +868,7 @@ def _plotter(window_size: tuple[int, int], off_screen: bool | None) -> pyvista.P
         and ctypes.util.find_library("OSMesa") is None
     ):
         plotter.close()
-        raise InterpError(_OFFSCREEN_HELP)
+        raise RenderingUnavailable(_OFFSCREEN_HELP)
     return plotter
 
 

@@ -74,3 +74,21 @@ def test_outputs_and_pictures(demo):
         png = out / f"{name}.png"
         img = imread(png)
         assert img.shape[0] > 200 and img.std() > 0.02, name
+
+
+def test_demo_without_offscreen_rendering_still_reports(tmp_path, monkeypatch):
+    # a server without EGL or OSMesa: the viewer refuses to draw, and the demo writes its
+    # figures and files anyway, saying why the pictures are missing
+    from interp import demo as demo_module
+    from interp import view
+    from interp.errors import RenderingUnavailable
+
+    def refuse(*args, **kwargs):
+        raise RenderingUnavailable("no off-screen OpenGL is available (test)")
+
+    monkeypatch.setattr(view, "_plotter", refuse)
+    summary = demo_module.run(tmp_path)
+    assert summary.figures["pictures"] == "skipped: no off-screen OpenGL is available (test)"
+    assert "pictures skipped: no off-screen OpenGL" in summary.text()
+    assert json.loads((tmp_path / "summary.json").read_text()) == summary.figures
+    assert not list(tmp_path.glob("*.png"))
