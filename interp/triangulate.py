@@ -33,11 +33,25 @@ def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     >>> u.tolist(), inv.tolist()
     ([[0.0, 0.0], [1.0, 0.0]], [0, 1, 0])
     """
-    _, first, inverse = np.unique(points, axis=0, return_index=True, return_inverse=True)
-    order = np.argsort(first)
-    rank = np.empty_like(order)
-    rank[order] = np.arange(order.size)
-    return points[first[order]], rank[inverse.ravel()].astype(np.int64)
+    # lexicographic and stable (equal points keep their input order): by the first
+    # coordinate, then the few runs that tie there by all coordinates
+    order = np.argsort(points[:, 0], kind="stable")
+    x = points[order, 0]
+    tied = np.zeros(len(points), dtype=bool)
+    tied[1:] = x[1:] == x[:-1]
+    tied[:-1] |= tied[1:]
+    at = np.flatnonzero(tied)
+    order[at] = order[at][np.lexsort(points[order[at]].T[::-1])]
+    ordered = points[order]
+    starts = np.ones(len(points), dtype=bool)
+    starts[1:] = (ordered[1:] != ordered[:-1]).any(axis=1)
+    group = np.cumsum(starts) - 1  # group of each sorted point
+    first = order[starts]  # first occurrence of each group, groups in sorted order
+    rank = np.empty(first.size, dtype=np.int64)
+    rank[np.argsort(first)] = np.arange(first.size)
+    inverse = np.empty(len(points), dtype=np.int64)
+    inverse[order] = rank[group]
+    return points[np.sort(first)], inverse
 
 
 def triangulate(

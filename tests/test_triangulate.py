@@ -4,10 +4,13 @@ from math import factorial
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+from hypothesis.extra import numpy as hnp
 from scipy.spatial import ConvexHull, Delaunay
 
 from interp import InterpError, triangulate
-from interp.triangulate import _drop_flat
+from interp.triangulate import _drop_flat, merge_duplicates
 
 
 @pytest.mark.parametrize("d", [2, 3])
@@ -160,3 +163,21 @@ def test_non_numeric_input_named():
         triangulate([[0.0, 1.0], [2.0]])
     with pytest.raises(InterpError, match="max_edge must be a positive length; got 'abc'"):
         triangulate(np.eye(3)[:, :2] + [[0, 0], [0, 0], [1, 1]], max_edge="abc")
+
+
+@given(
+    st.integers(1, 3).flatmap(
+        lambda d: hnp.arrays(
+            np.float64,
+            st.tuples(st.integers(1, 60), st.just(d)),
+            elements=st.sampled_from([0.0, 0.5, 1.0, 2.0]),
+        )
+    )
+)
+def test_merge_duplicates_matches_numpy_unique_rows(pts):
+    # reference: numpy.unique over rows, its groups ranked by first occurrence
+    uniq, inverse = merge_duplicates(pts)
+    _, first = np.unique(pts, axis=0, return_index=True)
+    np.testing.assert_array_equal(uniq, pts[np.sort(first)])
+    np.testing.assert_array_equal(uniq[inverse], pts)
+    assert inverse.dtype == np.int64
