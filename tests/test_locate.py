@@ -1,5 +1,7 @@
 """Point location and barycentric coordinates."""
 
+from itertools import combinations
+
 import numpy as np
 import pytest
 from conftest import cube_mesh, square_mesh
@@ -8,17 +10,60 @@ from hypothesis import strategies as st
 from scipy.spatial import Delaunay
 
 from interp import InterpError, Mesh
-from interp.index import TOLERANCE, _bucket_of, _counting_order
+from interp.index import TIE, TOLERANCE, _bucket_of, _counting_order
 
 
 def brute_force(mesh: Mesh, q: np.ndarray) -> np.ndarray:
-    """Barycentric coordinates of every query in every cell, by solving each system."""
+    """Barycentric coordinates of every query in every cell, by solving each system.
+
+    The reference is numpy.linalg.solve (LAPACK gesv) on x - v0 = sum_k lam_k (v_k - v0)
+    for every pair of query and cell, independent of the index's own affine maps.
+    """
     corners = mesh.points[mesh.corners]
     t = corners[:, 1:] - corners[:, :1]
     lam = np.linalg.solve(
         np.transpose(t, (0, 2, 1))[None], (q[:, None, :] - corners[None, :, 0])[..., None]
     )[..., 0]
     return np.concatenate([1 - lam.sum(axis=2, keepdims=True), lam], axis=2)
+
+
+def rule_cells(lam: np.ndarray) -> np.ndarray:
+    """Cell of each point by the documented rule, from brute-force coordinates (n, m, t+1).
+
+    interp/index.py: a point is inside a cell when its smallest barycentric coordinate
+    is >= -TOLERANCE; of the cells containing it the deepest wins, ties within TIE
+    going to the lowest cell index; -1 when no cell contains it.
+    """
+    depth = lam.min(axis=2)
+    depth[depth < -TOLERANCE] = -np.inf
+    deepest = depth.max(axis=1)
+    tied = depth >= deepest[:, None] - TIE
+    return np.where(np.isfinite(deepest), tied.argmax(axis=1), -1)
+
+
+def vertices_and_edge_midpoints(mesh: Mesh) -> np.ndarray:
+    """Every corner node and the midpoint of every edge of every cell (repeats removed)."""
+    pairs = np.vstack([mesh.corners[:, pair] for pair in combinations(range(mesh.dim + 1), 2)])
+    pairs = np.unique(np.sort(pairs, axis=1), axis=0)
+    mids = 0.5 * (mesh.points[pairs[:, 0]] + mesh.points[pairs[:, 1]])
+    return np.vstack([mesh.points, mids])
+
+
+@pytest.mark.parametrize("mesh", [square_mesh(7), cube_mesh(3)], ids=["square", "cube"])
+def test_tie_rule_on_vertices_and_edge_midpoints(mesh):
+    # every such point lies on the boundary of several cells, all at depth 0 (up to
+    # rounding far below TIE): the documented rule sends it to the lowest-index one
+    q = vertices_and_edge_midpoints(mesh)
+    lam = brute_force(mesh, q)
+    containing = (lam.min(axis=2) >= -TOLERANCE).sum(axis=1)
+    assert (containing >= 1).all()
+    # ties are the case under test: in 2D only the 28 boundary edge midpoints and the
+    # corners (1, 0) and (0, 1), off the diagonal, lie in a single cell (195 of 225 tie)
+    assert (containing >= 2).mean() > 0.8
+    expected = rule_cells(lam)
+    loc = mesh.locate(q)
+    np.testing.assert_array_equal(loc.cells, expected)
+    np.testing.assert_allclose(loc.bary, lam[np.arange(len(q)), expected], atol=1e-12)
 
 
 @pytest.mark.parametrize("d, n", [(2, 400), (3, 300)])
