@@ -58,6 +58,47 @@ def test_lagrange_reproduction(mesh, rng):
     np.testing.assert_allclose(grad1, np.broadcast_to(expected, grad1.shape), atol=1e-12)
 
 
+@pytest.mark.parametrize("d, vtk_type", [(2, "QUADRATIC_TRIANGLE"), (3, "QUADRATIC_TETRA")])
+def test_p2_node_order_matches_vtk(rng, d, vtk_type):
+    # reference: VTK (through pyvista's sample, a vtkProbeFilter) interpolating the same
+    # quadratic cells node for node with its own shape functions; had the edge nodes
+    # another order, its values of this quadratic would be off by O(0.1)
+    pv = pytest.importorskip("pyvista")
+    mesh = triangulate(rng.random((40, d))).elevate()
+    vals = quadratic(mesh.points)
+    n = 1000
+    cells = rng.integers(0, mesh.n_cells, n)
+    # well inside the cells (barycentric >= 0.05), so VTK picks the same cell
+    w = 0.05 + (1 - 0.05 * (d + 1)) * rng.dirichlet(np.ones(d + 1), n)
+    corners = mesh.points[mesh.corners[cells]]
+    q = np.einsum("pk,pkg->pg", w, corners)
+    field = Field(mesh, vals)
+    grid = pv.UnstructuredGrid(
+        {getattr(pv.CellType, vtk_type): mesh.cells}, np.pad(mesh.points, ((0, 0), (0, 3 - d)))
+    )
+    grid.point_data["f"] = vals
+    grid.point_data["x"] = grid.points
+    probe = pv.PolyData(np.pad(q, ((0, 0), (0, 3 - d)))).sample(grid)
+    assert np.asarray(probe.point_data["vtkValidPointMask"]).all()
+    f_vtk = np.asarray(probe.point_data["f"])
+    x_vtk = np.asarray(probe.point_data["x"])[:, :d]
+
+    # Lagrange P2 reproduces quadratics exactly (Ciarlet 1978, ch. 2): rounding only
+    np.testing.assert_allclose(field(q), quadratic(q), rtol=0, atol=1e-12)
+    # VTK interpolates the coordinates too (exact for straight-sided cells), which shows
+    # the point it evaluated at.  Its quadratic triangle inverts the cell map directly
+    # on linear sub-triangles: q itself, up to rounding.  Its quadratic tetra finds the
+    # parametric coordinates by iteration stopped at about 1e-5 (in one cell, parametric
+    # errors up to 9.9998e-6 over 15000 points): here up to 3.2e-5 of the cell's
+    # diameter over ten seeds, so bounded by 1e-4 of it
+    diameter = np.linalg.norm(corners[:, :, None] - corners[:, None], axis=3).max(axis=(1, 2))
+    reach = np.full(n, 1e-12) if d == 2 else 1e-4 * diameter
+    assert (np.linalg.norm(x_vtk - q, axis=1) <= reach).all()
+    # at that point VTK's value, interp's and the exact quadratic agree to rounding
+    np.testing.assert_allclose(f_vtk, field(x_vtk), rtol=0, atol=1e-12)
+    np.testing.assert_allclose(f_vtk, quadratic(x_vtk), rtol=0, atol=1e-12)
+
+
 def convergence_rate(order: int) -> np.ndarray:
     f = lambda x: np.sin(np.pi * x[:, 0]) * np.cos(np.pi * x[:, 1])  # noqa: E731
     q = np.random.default_rng(5).random((20000, 2))
