@@ -140,17 +140,54 @@ def test_outside_value_and_nan():
     assert np.isnan(f.gradient([[2.0, 2.0]])).all()
 
 
-def test_large_offsets_match_shifted_data(rng):
-    # projected coordinates (easting ~5e5, northing ~5e6) must lose no accuracy
-    local = rng.random((2000, 2)) * 200.0
-    z = 50 + 0.3 * local[:, 0] + 5 * np.sin(local[:, 1] / 20)
-    offset = np.array([512345.0, 5123456.0])
-    q = rng.random((5000, 2)) * 200.0
-    a = Field(triangulate(local), z)(q)
-    b = Field(triangulate(local + offset), z)(q + offset)
+@pytest.mark.parametrize("build", ["Mesh", "triangulate"])
+@pytest.mark.parametrize("order", [1, 2])
+@pytest.mark.parametrize("d", [2, 3])
+def test_large_offsets_match_shifted_data(rng, d, order, build):
+    # projected coordinates (easting ~5e5, northing ~5e6, height ~120) must lose no
+    # accuracy against the same data shifted to the origin
+    offset = np.array([512345.0, 5123456.0, 120.0])[:d]
+    extent = np.array([200.0, 200.0, 100.0])[:d]
+    far = rng.random((2000 if d == 2 else 1000, d)) * extent + offset
+    q_far = rng.random((3000, d)) * extent + offset
+    # x - y is exact when y / 2 <= x <= 2 y (Sterbenz's lemma), which holds for every
+    # coordinate here: the shifted data are the exact translates
+    near, q_near = far - offset, q_far - offset
+    np.testing.assert_array_equal(near + offset, far)
+    tri = Delaunay(near)  # reference triangulation: scipy's Qhull
+    if build == "Mesh":
+        mesh_near, mesh_far = Mesh(near, tri.simplices), Mesh(far, tri.simplices)
+    else:
+        mesh_near, mesh_far = triangulate(near), triangulate(far)
+        np.testing.assert_array_equal(mesh_far.cells, mesh_near.cells)
+    if order == 2:
+        mesh_near, mesh_far = mesh_near.elevate(), mesh_far.elevate()
+    x = mesh_near.points
+    z = 50 + 0.3 * x[:, 0] + 5 * np.sin(x[:, 1] / 20) + 0.2 * x[:, 2:].sum(axis=1)
+    near_field, far_field = Field(mesh_near, z), Field(mesh_far, z)
+
+    a, b = near_field(q_near), far_field(q_far)
     ok = ~np.isnan(a)
+    np.testing.assert_array_equal(ok, tri.find_simplex(q_near) >= 0)
     assert np.array_equal(ok, ~np.isnan(b))
-    assert (np.abs(a[ok] - b[ok]) / np.abs(a[ok]) < 1e-9).all()
+    assert (np.abs(a[ok] - b[ok]) <= 1e-9 * np.abs(a[ok])).all()
+
+    # Gradients are difference quotients, sum_i z_i grad N_i with |grad N_i| up to about
+    # 4 s, where s is the largest barycentric gradient of the cell (1 / its smallest
+    # height; numpy's inverse of the edge matrix).  Centred on their own bounding
+    # boxes the two meshes' coordinates differ only by rounding, eps * R (R = 100, half
+    # the extent), which moves each barycentric gradient by about s * eps * R * s.  So
+    # over the 10 basis functions at most: |delta grad| <= 40 * max|z| * eps * R * s^2,
+    # about 1e-11 in a well-shaped cell (s ~ 0.3) and larger in the hull's slivers
+    # (measured: at most 3% of this bound).  Coordinates rounded at their raw size,
+    # 5e6, instead of after centring would carry errors 5e4 times larger.
+    corners = near[tri.simplices]
+    inv = np.linalg.inv(corners[:, 1:] - corners[:, :1])  # columns: grad of lam_1..lam_d
+    grads = np.concatenate([inv, -inv.sum(axis=2, keepdims=True)], axis=2)
+    s = np.linalg.norm(grads, axis=1).max(axis=1)[tri.find_simplex(q_near[ok])]
+    tol = 40 * np.abs(z).max() * np.finfo(float).eps * 100.0 * s**2
+    ga, gb = near_field.gradient(q_near[ok]), far_field.gradient(q_far[ok])
+    assert (np.abs(ga - gb).max(axis=1) <= tol).all()
 
 
 def test_value_length_mismatch():
