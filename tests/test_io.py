@@ -97,6 +97,16 @@ def test_read_refuses_hexahedra_naming_them(tmp_path):
         interp.read(path)
 
 
+def test_read_refuses_a_wedge_naming_it(tmp_path):
+    # a triangular prism: the triangle (0, 1, 2) at z = 0 and its copy at z = 1
+    tri = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0]])
+    points = np.vstack([tri, tri + [0, 0, 1.0]])
+    path = tmp_path / "prism.vtu"
+    meshio.write(path, meshio.Mesh(points, [("wedge", np.array([np.arange(6)]))]))
+    with pytest.raises(InterpError, match=r"prism\.vtu: only simplices.*found wedge \(1 cell\)"):
+        interp.read(path)
+
+
 def test_read_refuses_quads_mixed_with_triangles(tmp_path):
     points = np.array([[0.0, 0], [1, 0], [1, 1], [0, 1], [2, 0]])
     path = tmp_path / "mixed.vtk"

@@ -51,6 +51,7 @@ def test_embedded_triangle_cayley_menger(rng):
 def test_embedded_line_length():
     mesh = Mesh([[0.0, 0.0], [3.0, 4.0]], [[0, 1]])
     assert mesh.dim == 1 and mesh.gdim == 2
+    # Pythagoras: sqrt(3^2 + 4^2) = sqrt(25) = 5, exact in floating point
     assert mesh.measure().tolist() == [5.0]
 
 

@@ -4,6 +4,7 @@ from math import factorial
 
 import numpy as np
 import pytest
+import shapely
 from hypothesis import given
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
@@ -49,23 +50,37 @@ def test_duplicates_merged_in_one_and_three_dimensions(rng, d):
     assert mesh.measure().sum() == pytest.approx(hull, rel=1e-12)
 
 
+def cell_union(mesh):
+    """The union of a triangle mesh's cells, by shapely (general-purpose geometry library)."""
+    return shapely.union_all(shapely.polygons(mesh.points[mesh.cells]))
+
+
 def test_max_edge_mask():
     # a 3 x 3 lattice with one far point: max_edge removes the cells reaching it
     x = np.array([[i, j] for i in range(3) for j in range(3)], dtype=float)
     pts = np.vstack([x, [[10.0, 1.0]]])
     full = triangulate(pts)
     masked = triangulate(pts, max_edge=1.5)
-    assert masked.measure().sum() == pytest.approx(4.0)
-    assert full.measure().sum() > 4.0
+    # worked out by hand: the full mesh fills the convex hull, the 2 x 2 square plus the
+    # triangle (2, 0), (10, 1), (2, 2) of base 2 and height 8: 4 + 2 * 8 / 2 = 12;
+    # the mask keeps the lattice's cells (edges 1 and sqrt(2) < 1.5): the square, 4
+    assert full.measure().sum() == pytest.approx(12.0, rel=1e-14)
+    assert masked.measure().sum() == pytest.approx(4.0, rel=1e-14)
+    # shapely: the kept cells cover exactly the square, the full ones the convex hull
+    assert cell_union(masked).equals(shapely.box(0, 0, 2, 2))
+    assert cell_union(full).equals(shapely.MultiPoint(pts).convex_hull)
     assert (masked.cells != 9).all()
 
 
 def test_boundary_mask():
     x = np.array([[i, j] for i in range(5) for j in range(5)], dtype=float)
-    # an L-shaped boundary: area 16 - 4 = 12
+    # an L-shaped boundary, worked out by hand: the 4 x 4 square less the 2 x 2 corner
+    # square [2, 4] x [2, 4], area 16 - 4 = 12
     boundary = [[0, 0], [4, 0], [4, 2], [2, 2], [2, 4], [0, 4]]
     mesh = triangulate(x, boundary=boundary)
-    assert mesh.measure().sum() == pytest.approx(12.0)
+    assert mesh.measure().sum() == pytest.approx(12.0, rel=1e-14)
+    # shapely: the kept cells cover exactly the L
+    assert cell_union(mesh).equals(shapely.Polygon(boundary))
 
 
 def test_too_few_points():
