@@ -3,11 +3,12 @@
 :class:`CellIndex` lays a uniform grid of buckets over the mesh (about one
 bucket per cell in 2D, one per two cells in 3D) and lists, in compressed sparse
 rows, the cells that reach into each bucket: the buckets of a cell's bounding
-box, less those its own planes exclude.  Query points are ordered by bucket
-(a counting sort), gathered, tested against the few cells listed in their
-bucket and scattered back, so the cost per point does not depend on the order
-of the queries, and the index works on any mesh whose cells fill their space:
-convex or not, with holes, Delaunay or not.
+box, in 3D less those its own planes exclude.  Query points are ordered by
+bucket (a counting sort, or a stable argsort when buckets far outnumber the
+points), gathered, tested against the few cells listed in their bucket and
+scattered back, so the cost per point does not depend on the order of the
+queries, and the index works on any mesh whose cells fill their space: convex
+or not, with holes, Delaunay or not.
 
 Coordinates are centred on the mesh's bounding box and scaled to [-1, 1]
 before anything is computed, so projected survey coordinates (x near 5e5,
@@ -17,9 +18,11 @@ Containment rule
 ----------------
 A point is inside a cell when its smallest barycentric coordinate is at least
 ``-TOLERANCE`` (1e-10, relative to the cell's size).  Among the cells that
-contain a point (on a shared edge or vertex there are several) the one where
-the point lies deepest is chosen, ties within 1e-12 going to the lowest cell
-index, so the answer is deterministic.
+contain a point (on a shared edge or vertex there are several) the deepest
+is chosen: the cells are tried in ascending index order and a later one
+replaces the one kept only when the point lies deeper in it by more than
+``TIE`` (1e-12), so ties go to the lowest cell index and the answer is
+deterministic.
 """
 
 from __future__ import annotations
