@@ -75,6 +75,16 @@ def triangulate(
         A P1 mesh of lines, triangles or tetrahedra.  Nodes used by no cell
         (after masking) stay in the mesh.
 
+    Warns
+    -----
+    UserWarning
+        When duplicates are merged; when cells too flat for a :class:`Mesh`
+        (relative measure <= 1e-12) carry a share of the volume, as in a
+        nearly flat cloud, and are dropped; and when a point ends up in no
+        cell (one within rounding distance of another), so its value is unused.
+        Zero-volume cells that Qhull emits for cospherical points (a lattice)
+        are dropped without a word.
+
     Examples
     --------
     >>> import numpy as np
@@ -128,7 +138,7 @@ def triangulate(
 
 def _positive(value: object, name: str) -> float:
     try:
-        v = float(value)  # type: ignore[arg-type]
+        v = float(value)
     except (TypeError, ValueError):
         v = np.nan
     if not np.isfinite(v) or v <= 0:

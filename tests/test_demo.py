@@ -76,6 +76,7 @@ def test_outputs_and_pictures(demo):
         assert img.shape[0] > 200 and img.std() > 0.02, name
 
 
+@pytest.mark.filterwarnings("ignore:.*skipped the text column")
 def test_demo_without_offscreen_rendering_still_reports(tmp_path, monkeypatch):
     # a server without EGL or OSMesa: the viewer refuses to draw, and the demo writes its
     # figures and files anyway, saying why the pictures are missing
