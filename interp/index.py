@@ -119,13 +119,10 @@ class CellIndex:
         self.h = extent / self.shape
         # bary[1:] = x @ affine[c, :g] + affine[c, g]: one block of memory per cell
         self.affine = np.empty((mesh.n_cells, g + 1, g))
-        self.box = np.empty((mesh.n_cells, 2, g))
         i0 = np.empty((mesh.n_cells, g), dtype=np.int32)  # bucket range of each cell's box
         i1 = np.empty_like(i0)
         scaled = (mesh.points - self.center) / self.scale
-        _cell_maps(
-            scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, self.box, i0, i1
-        )
+        _cell_maps(scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1)
         self.start, self.members = _bucket_cells(i0, i1, self.lo, self.h, self.shape, self.affine)
 
     @property
@@ -146,22 +143,21 @@ class CellIndex:
     def locate_grid(self, axes: tuple[np.ndarray, ...]) -> Location:
         """Locate the nodes of a regular grid (the C-order points of its axes).
 
-        Equivalent to :meth:`locate` on ``Grid.points()`` (same containment
-        and tie rules, same barycentric coordinates), but it scans each cell's
-        own grid nodes instead of searching for each node's cell, which is
-        several times faster on a grid.
+        Equivalent to :meth:`locate` on ``Grid.points()`` (the same buckets,
+        cells, tests and barycentric coordinates), without building the points
+        or ordering them: consecutive nodes in C order share buckets.
         """
         g = len(axes)
-        scaled = tuple(
+        scaled = [
             np.ascontiguousarray((a - self.center[k]) / self.scale) for k, a in enumerate(axes)
-        )
-        shape = np.array([len(a) for a in axes] + [1] * (3 - g), dtype=np.int64)
-        full = scaled + tuple(np.zeros(1) for _ in range(3 - g))
-        n = int(np.prod(shape))
+        ]
+        full = scaled + [np.zeros(1) for _ in range(3 - g)]
+        n = int(np.prod([len(a) for a in axes]))
         cells = np.full(n, -1, dtype=np.int64)
         bary = np.full((n, g + 1), np.nan)
-        best = np.full(n, -np.inf)
-        _scan_grid(*full, shape, g, self.box, self.affine, cells, bary, best)
+        _scan_grid(
+            *full, self.lo, self.h, self.shape, self.start, self.members, self.affine, cells, bary
+        )
         return Location(cells, bary)
 
     def locate(self, points: np.ndarray) -> Location:
@@ -176,9 +172,8 @@ class CellIndex:
 
 
 @numba.njit(cache=True, nogil=True)
-def _cell_maps(points, corners, lo, h, shape, pad, affine, box, i0, i1):  # pragma: no cover
-    """Affine map to barycentric coordinates, padded bounding box and bucket range of
-    every cell."""
+def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1):  # pragma: no cover
+    """Affine map to barycentric coordinates and bucket range of every cell."""
     m, g = i0.shape
     e = np.empty((g, g))
     inv = np.empty((g, g))
@@ -217,8 +212,6 @@ def _cell_maps(points, corners, lo, h, shape, pad, affine, box, i0, i1):  # prag
                 x = points[corners[c, k], a]
                 cmin = min(cmin, x)
                 cmax = max(cmax, x)
-            box[c, 0, a] = cmin - pad
-            box[c, 1, a] = cmax + pad
             i0[c, a] = min(max(int(np.floor((cmin - pad - lo[a]) / h[a])), 0), shape[a] - 1)
             i1[c, a] = min(max(int(np.floor((cmax + pad - lo[a]) / h[a])), 0), shape[a] - 1)
 
@@ -359,16 +352,20 @@ def _locate_block(index: CellIndex, x: np.ndarray, cells: np.ndarray, bary: np.n
 @numba.njit(cache=True, nogil=True)
 def _bucket_of(x, lo, h, shape, flat):  # pragma: no cover
     """Bucket of each point, -1 outside the grid or NaN."""
-    n, g = x.shape
-    for p in range(n):
-        b = 0
-        for a in range(g):
-            v = (x[p, a] - lo[a]) / h[a]
-            if not (v >= 0.0 and v < shape[a]):  # also False for NaN
-                b = -1
-                break
-            b = b * shape[a] + int(v)
-        flat[p] = b
+    for p in range(x.shape[0]):
+        flat[p] = _bucket(x[p], lo, h, shape)
+
+
+@numba.njit(cache=True, nogil=True, inline="always")
+def _bucket(x, lo, h, shape):  # pragma: no cover
+    """Bucket of point ``x`` (its first len(lo) coordinates), -1 outside or NaN."""
+    b = 0
+    for a in range(lo.size):
+        v = (x[a] - lo[a]) / h[a]
+        if not (v >= 0.0 and v < shape[a]):  # also False for NaN
+            return -1
+        b = b * shape[a] + int(v)
+    return b
 
 
 @numba.njit(cache=True, nogil=True)
@@ -388,7 +385,7 @@ def _counting_order(flat, n_buckets):  # pragma: no cover
 
 @numba.njit(cache=True, nogil=True)
 def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cover
-    """Test the cells of each point's bucket, visiting points in ``order``.
+    """Locate the points, visiting them in ``order``.
 
     The points are copied in that order first and the results scattered back at
     the end, so the scan itself reads and writes memory in sequence.
@@ -404,30 +401,8 @@ def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no co
     coords = np.empty((n, g + 1))
     lam = np.empty(g + 1)
     for i in range(n):
-        if fs[i] < 0:
-            continue
-        best = -np.inf
-        for j in range(start[fs[i]], start[fs[i] + 1]):
-            c = members[j]
-            s = 0.0
-            mn = np.inf
-            for b in range(g):
-                v = affine[c, g, b]
-                for a in range(g):
-                    v += xs[i, a] * affine[c, a, b]
-                lam[b + 1] = v
-                s += v
-                mn = min(mn, v)
-            lam[0] = 1.0 - s
-            mn = min(mn, lam[0])
-            # members are in ascending cell order, so a tie keeps the lower index
-            if mn >= -TOLERANCE and (found[i] < 0 or mn > best + TIE):
-                best = mn
-                found[i] = c
-                for b in range(g + 1):
-                    coords[i, b] = lam[b]
-                if mn > TIE:
-                    break  # strictly inside: cells do not overlap, no other can be deeper
+        if fs[i] >= 0:
+            found[i] = _deepest(xs[i], fs[i], start, members, affine, lam, coords[i])
     for i in range(n):
         if found[i] >= 0:
             p = order[i]
@@ -436,44 +411,54 @@ def _scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no co
                 bary[p, b] = coords[i, b]
 
 
+@numba.njit(cache=True, nogil=True, inline="always")
+def _deepest(x, bucket, start, members, affine, lam, out):  # pragma: no cover
+    """The cell of ``bucket`` that contains point ``x`` deepest (-1 if none), its
+    barycentric coordinates written to ``out``; ``lam`` is scratch space."""
+    g = affine.shape[2]
+    found = -1
+    best = -np.inf
+    for j in range(start[bucket], start[bucket + 1]):
+        c = members[j]
+        s = 0.0
+        mn = np.inf
+        for b in range(g):
+            v = affine[c, g, b]
+            for a in range(g):
+                v += x[a] * affine[c, a, b]
+            lam[b + 1] = v
+            s += v
+            mn = min(mn, v)
+        lam[0] = 1.0 - s
+        mn = min(mn, lam[0])
+        # members are in ascending cell order, so a tie keeps the lower index
+        if mn >= -TOLERANCE and (found < 0 or mn > best + TIE):
+            best = mn
+            found = c
+            for b in range(g + 1):
+                out[b] = lam[b]
+            if mn > TIE:
+                break  # strictly inside: cells do not overlap, no other can be deeper
+    return found
+
+
 @numba.njit(cache=True, nogil=True)
-def _scan_grid(ax, ay, az, shape, g, box, affine, cells, bary, best):  # pragma: no cover
-    lo = np.zeros(3, dtype=np.int64)
-    hi = np.zeros(3, dtype=np.int64)
-    axes = (ax, ay, az)
+def _scan_grid(ax, ay, az, lo, h, shape, start, members, affine, cells, bary):  # pragma: no cover
+    """Locate the nodes of the grid of axes (ax, ay, az) in C order, as :func:`_scan`
+    does each point: consecutive nodes share buckets, so no ordering is needed."""
     x = np.zeros(3)
-    lam = np.empty(g + 1)
-    for c in range(affine.shape[0]):
-        for a in range(3):
-            if a < g:
-                lo[a] = np.searchsorted(axes[a], box[c, 0, a])
-                hi[a] = np.searchsorted(axes[a], box[c, 1, a], side="right")
-            else:
-                lo[a], hi[a] = 0, 1
-        for i in range(lo[0], hi[0]):
-            x[0] = ax[i]
-            for j in range(lo[1], hi[1]):
-                x[1] = ay[j]
-                for k in range(lo[2], hi[2]):
-                    x[2] = az[k]
-                    s = 0.0
-                    mn = np.inf
-                    for b in range(g):
-                        v = affine[c, g, b]
-                        for a in range(g):
-                            v += x[a] * affine[c, a, b]
-                        lam[b + 1] = v
-                        s += v
-                        mn = min(mn, v)
-                    lam[0] = 1.0 - s
-                    mn = min(mn, lam[0])
-                    p = (i * shape[1] + j) * shape[2] + k
-                    # cells come in ascending order, so a tie keeps the lower index
-                    if mn >= -TOLERANCE and (cells[p] < 0 or mn > best[p] + TIE):
-                        best[p] = mn
-                        cells[p] = c
-                        for b in range(g + 1):
-                            bary[p, b] = lam[b]
+    lam = np.empty(affine.shape[2] + 1)
+    p = 0
+    for i in range(ax.size):
+        x[0] = ax[i]
+        for j in range(ay.size):
+            x[1] = ay[j]
+            for k in range(az.size):
+                x[2] = az[k]
+                bucket = _bucket(x, lo, h, shape)
+                if bucket >= 0:
+                    cells[p] = _deepest(x, bucket, start, members, affine, lam, bary[p])
+                p += 1
 
 
 def locate(mesh: Mesh, query: object) -> Location:

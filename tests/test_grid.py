@@ -98,7 +98,7 @@ def test_bad_grid_arguments():
 
 @pytest.mark.parametrize("d", [1, 2, 3])
 def test_grid_scan_equals_point_location(rng, d):
-    # the grid path scans each cell's own nodes; it must give exactly what locating every
+    # the grid path walks the nodes without building them; it must give exactly what locating every
     # node one by one gives (same cells, same barycentric coordinates, same values)
     pts = rng.random((200, d))
     mesh = interp.triangulate(pts)
