@@ -27,6 +27,9 @@ deterministic.
 
 from __future__ import annotations
 
+import os
+from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numba
@@ -45,6 +48,8 @@ BUCKETS_PER_CELL = {1: 2.0, 2: 1.0, 3: 0.5}
 #: barycentric margin, well above rounding, by which a bucket must miss a cell's
 #: planes to leave the cell off the bucket's list.
 MARGIN = 1e-8
+#: meshes with fewer cells build their index in one thread.
+PARALLEL_CELLS = 1 << 16
 #: query points handled per block (bounds the temporary memory to about 20 MiB).
 BLOCK = 1 << 18
 
@@ -122,7 +127,13 @@ class CellIndex:
         i0 = np.empty((mesh.n_cells, g), dtype=np.int32)  # bucket range of each cell's box
         i1 = np.empty_like(i0)
         scaled = (mesh.points - self.center) / self.scale
-        _cell_maps(scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1)
+        _in_parts(
+            mesh.n_cells,
+            _threads(mesh.n_cells, mesh.n_cells),
+            lambda c0, c1: _cell_maps(
+                scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1, c0, c1
+            ),
+        )
         self.start, self.members = _bucket_cells(i0, i1, self.lo, self.h, self.shape, self.affine)
 
     @property
@@ -172,12 +183,12 @@ class CellIndex:
 
 
 @numba.njit(cache=True, nogil=True)
-def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1):  # pragma: no cover
-    """Affine map to barycentric coordinates and bucket range of every cell."""
-    m, g = i0.shape
+def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1, c0, c1):  # pragma: no cover
+    """Affine map to barycentric coordinates and bucket range of cells c0 to c1 - 1."""
+    g = i0.shape[1]
     e = np.empty((g, g))
     inv = np.empty((g, g))
-    for c in range(m):
+    for c in range(c0, c1):
         v0 = corners[c, 0]
         for r in range(g):
             for a in range(g):
@@ -223,47 +234,93 @@ def _bucket_cells(i0, i1, lo, h, shape, affine):
     those its own planes exclude (a tetrahedron fills a sixth of its box, so
     this shortens the lists by about a third and speeds queries by as much; a
     triangle fills half of its box, and in 2D the test costs more than it saves).
+    Large meshes are done in slabs of the first grid axis, one thread each:
+    the slabs write disjoint buckets, and the lists come out the same.
     """
-    trim = i0.shape[1] == 3
+    m, g = i0.shape
     # one run of buckets along the last axis for each row of each cell's box
-    rows = np.prod(i1[:, :-1] - i0[:, :-1] + 1, axis=1, dtype=np.int64).sum()
-    runs = np.empty((rows, 2), dtype=np.int32)
+    rows = np.prod(i1[:, :-1] - i0[:, :-1] + 1, axis=1, dtype=np.int64)
+    first = np.cumsum(rows) - rows
+    runs = np.empty((int(rows.sum()), 2), dtype=np.int32)
     start = np.zeros(int(np.prod(shape)) + 1, dtype=np.int64)
-    _find_runs(i0, i1, lo, h, shape, affine, trim, runs, start[1:])
+    n0 = int(shape[0])
+    parts = _threads(m, n0 if g > 1 else 1)  # slabs of the first grid axis (one in 1D)
+    count = start[1:]
+    _in_parts(
+        n0,
+        parts,
+        lambda a0, a1: _find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count),
+    )
     np.cumsum(start, out=start)
     # half the memory, and faster scans, wherever cell numbers fit
-    members = np.empty(start[-1], dtype=np.int32 if len(i0) < 2**31 else np.int64)
-    _fill_runs(i0, i1, shape, runs, start[:-1].copy(), members)
+    members = np.empty(start[-1], dtype=np.int32 if m < 2**31 else np.int64)
+    slot = start[:-1].copy()
+    _in_parts(
+        n0, parts, lambda a0, a1: _fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members)
+    )
     return start, members
 
 
-@numba.njit(cache=True, nogil=True)
-def _find_runs(i0, i1, lo, h, shape, affine, trim, runs, count):  # pragma: no cover
-    """The run of buckets each row of each cell's box keeps, and the count per bucket.
+def _threads(n_cells: int, parts: int) -> int:
+    """Threads for building the index of a mesh of ``n_cells`` in at most ``parts``."""
+    return 1 if n_cells < PARALLEL_CELLS else max(1, min(_cores(), parts))
 
-    With ``trim``, a bucket is left out when one barycentric coordinate of the
-    cell stays below -MARGIN over the whole (slightly enlarged) bucket: the
-    largest value of an affine function over a box is its value at the centre
-    plus the sum of |slope| * half-width.  Each coordinate is affine along the
-    last grid axis, so the buckets kept in a row along that axis form one run,
-    found from where each coordinate crosses -MARGIN; values at bucket centres
-    are stepped along the other axes.
+
+def _cores() -> int:
+    """Processor cores this process may run on."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:  # not on Linux
+        return os.cpu_count() or 1
+
+
+def _in_parts(n: int, parts: int, work: Callable[[int, int], None]) -> None:
+    """Run ``work(a0, a1)`` on [0, n) cut into ``parts`` ranges, in threads when there
+    are several (the compiled kernels release the GIL)."""
+    if parts == 1:
+        work(0, n)
+        return
+    cuts = np.linspace(0, n, parts + 1).round().astype(np.int64).tolist()
+    with ThreadPoolExecutor(parts) as pool:
+        for done in [pool.submit(work, a0, a1) for a0, a1 in zip(cuts[:-1], cuts[1:], strict=True)]:
+            done.result()
+
+
+@numba.njit(cache=True, nogil=True, inline="always")
+def _rows_of(i0, i1, c, a0, a1):  # pragma: no cover
+    """Rows of cell c's box in the slab a0 <= i < a1 of the first axis: the ranges
+    of i and j (the axes before the last; a single row in 1D) and i's first value."""
+    g = i0.shape[1]
+    if g == 1:
+        return 0, 0, 0, 0, 0
+    j0, j1 = (i0[c, 1], i1[c, 1]) if g == 3 else (0, 0)
+    return max(i0[c, 0], a0), min(i1[c, 0], a1 - 1), j0, j1, i0[c, 0]
+
+
+@numba.njit(cache=True, nogil=True)
+def _find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count):  # pragma: no cover
+    """The run of buckets each row of each cell's box keeps, and the count per bucket,
+    for the rows in the slab a0 <= i < a1; ``first[c]`` is cell c's first row.
+
+    In 3D a bucket is left out when one barycentric coordinate of the cell stays
+    below -MARGIN over the whole (slightly enlarged) bucket: the largest value
+    of an affine function over a box is its value at the centre plus the sum of
+    |slope| * half-width.  Each coordinate is affine along the last grid axis,
+    so the buckets kept in a row along that axis form one run, found from where
+    each coordinate crosses -MARGIN.
     """
     m, g = i0.shape
+    trim = g == 3
     last = g - 1
     half = 0.5 * h * (1.0 + 1e-6) + 1e-9
     slope = np.zeros((g, g + 1))  # change of each coordinate per bucket along each axis
     top = np.empty(g + 1)  # value at the first bucket's centre plus the reach
-    vi = np.empty(g + 1)
-    vj = np.empty(g + 1)
+    v = np.empty(g + 1)
     step = np.empty(g + 1)  # buckets along the last axis per unit of each coordinate
-    outer0 = np.zeros(2, dtype=np.int64)  # the box along the axes before the last
-    outer1 = np.zeros(2, dtype=np.int64)
-    r = 0
     for c in range(m):
-        for a in range(g - 1):
-            outer0[a] = i0[c, a]
-            outer1[a] = i1[c, a]
+        ia, ib, ja, jb, i_first = _rows_of(i0, i1, c, a0, a1)
+        if ia > ib:
+            continue
         r0 = i0[c, last]
         room = i1[c, last] - r0 + 1.0
         if trim:
@@ -281,51 +338,43 @@ def _find_runs(i0, i1, lo, h, shape, affine, trim, runs, count):  # pragma: no c
                 top[0] += -x * s + abs(s) * half[a]
                 slope[a, 0] = -s * h[a]
             for b in range(g + 1):
-                vi[b] = top[b]
                 step[b] = 1.0 / slope[last, b] if slope[last, b] != 0.0 else 0.0
-        for i in range(outer0[0], outer1[0] + 1):
-            for b in range(g + 1):
-                vj[b] = vi[b]
-            for j in range(outer0[1], outer1[1] + 1):
+        for i in range(ia, ib + 1):
+            for j in range(ja, jb + 1):
                 k0, k1 = r0, i1[c, last]
                 for b in range(g + 1 if trim else 0):
+                    v[b] = top[b] + (i - i0[c, 0]) * slope[0, b] + (j - i0[c, 1]) * slope[1, b]
                     if step[b] == 0.0:
-                        if vj[b] < -MARGIN:
+                        if v[b] < -MARGIN:
                             k1 = k0 - 1
                         continue
                     # steps along the row until coordinate b reaches -MARGIN, within
                     # [-1, room]; selects rather than branches on the sign of the slope
-                    t = min(max((-MARGIN - vj[b]) * step[b], -1.0), room)
+                    t = min(max((-MARGIN - v[b]) * step[b], -1.0), room)
                     up = step[b] > 0.0
                     k0 = max(k0, r0 - int(room + 2.0 - t) + int(room + 2.0) if up else k0)
                     k1 = min(k1, k1 if up else r0 + int(t + 1.0) - 1)
+                r = first[c] + (i - i_first) * (jb - ja + 1) + (j - ja)
                 runs[r, 0] = k0
                 runs[r, 1] = k1
-                r += 1
                 row = _row(i, j, g, shape)
                 for k in range(k0, k1 + 1):
                     count[row + k] += 1
-                if g > 2:
-                    for b in range(g + 1):
-                        vj[b] += slope[1, b]
-            if g > 1:
-                for b in range(g + 1):
-                    vi[b] += slope[0, b]
 
 
 @numba.njit(cache=True, nogil=True)
-def _fill_runs(i0, i1, shape, runs, slot, members):  # pragma: no cover
-    """Write each cell into the buckets of its runs, at ``slot`` (ascending cells)."""
-    m, g = i0.shape
-    r = 0
-    for c in range(m):
-        for i in range(i0[c, 0] if g > 1 else 0, (i1[c, 0] if g > 1 else 0) + 1):
-            for j in range(i0[c, 1] if g > 2 else 0, (i1[c, 1] if g > 2 else 0) + 1):
-                row = _row(i, j, g, shape)
+def _fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members):  # pragma: no cover
+    """Write each cell into the buckets of its runs in the slab a0 <= i < a1, at
+    ``slot`` (cells in ascending order)."""
+    for c in range(i0.shape[0]):
+        ia, ib, ja, jb, i_first = _rows_of(i0, i1, c, a0, a1)
+        for i in range(ia, ib + 1):
+            for j in range(ja, jb + 1):
+                r = first[c] + (i - i_first) * (jb - ja + 1) + (j - ja)
+                row = _row(i, j, i0.shape[1], shape)
                 for k in range(runs[r, 0], runs[r, 1] + 1):
                     members[slot[row + k]] = c
                     slot[row + k] += 1
-                r += 1
 
 
 @numba.njit(cache=True, nogil=True, inline="always")

@@ -328,3 +328,20 @@ def test_bary_properties_and_brute_force(coords, three_d):
     recon = np.einsum("pi,pig->pg", loc.bary[inside], corners)
     np.testing.assert_allclose(recon, q[inside], atol=1e-13)
     assert_locate_matches_brute_force(mesh, q)
+
+
+@pytest.mark.parametrize("d", [2, 3])
+def test_index_built_in_slabs_equals_one_pass(rng, d, monkeypatch):
+    # large meshes build their bucket lists in slabs of the first grid axis, one thread
+    # each; the slabs write disjoint buckets, so the lists are those of a single pass
+    import interp.index
+
+    pts = rng.random((3000, d))
+    mesh = Mesh(pts, Delaunay(pts).simplices)
+    one = interp.index.CellIndex(mesh)
+    monkeypatch.setattr(interp.index, "PARALLEL_CELLS", 0)
+    monkeypatch.setattr(interp.index, "_cores", lambda: 3)
+    three = interp.index.CellIndex(mesh)
+    np.testing.assert_array_equal(three.start, one.start)
+    np.testing.assert_array_equal(three.members, one.members)
+    assert one.shape[0] >= 3
