@@ -8,7 +8,8 @@ N_i = L_i, and the quadratic (P2) basis is
 
 with edges in meshio / VTK order (:data:`EDGES`).  Derivatives are taken with
 respect to each L_j as if independent; the chain rule with the gradients of
-the barycentric coordinates (which sum to zero) gives the spatial gradient.
+the barycentric coordinates (which sum to zero) gives the spatial gradient
+(:meth:`interp.index.CellIndex.spatial_gradient`).
 """
 
 from __future__ import annotations
@@ -83,25 +84,3 @@ def shape_dbary(dim: int, order: int, bary: np.ndarray) -> np.ndarray:
     out[:, row, edges[:, 0]] = 4.0 * bary[:, edges[:, 1]]
     out[:, row, edges[:, 1]] = 4.0 * bary[:, edges[:, 0]]
     return out
-
-
-def shape_grad(dim: int, order: int, bary: np.ndarray, grad_bary: np.ndarray) -> np.ndarray:
-    """Spatial gradients of the basis functions.
-
-    Parameters
-    ----------
-    bary : ndarray (n, dim + 1)
-    grad_bary : ndarray (n, dim + 1, g)
-        Gradient of each barycentric coordinate of the cell holding each point.
-
-    Returns
-    -------
-    ndarray (n, n_basis, g)
-
-    Examples
-    --------
-    >>> gl = np.array([[[-1.0, -1.0], [1.0, 0.0], [0.0, 1.0]]])
-    >>> shape_grad(2, 1, np.array([[1/3, 1/3, 1/3]]), gl)[0].tolist()
-    [[-1.0, -1.0], [1.0, 0.0], [0.0, 1.0]]
-    """
-    return np.einsum("pij,pjg->pig", shape_dbary(dim, order, bary), grad_bary)

@@ -9,7 +9,7 @@ from typing import TYPE_CHECKING
 import numba
 import numpy as np
 
-from interp.basis import shape, shape_grad
+from interp.basis import shape, shape_dbary
 from interp.errors import InterpError
 from interp.index import Location
 from interp.mesh import Mesh, as_points
@@ -150,10 +150,9 @@ class Field:
         g = self.mesh.gdim
         out = np.full((inside.size, g) + self.values.shape[1:], np.nan)
         cid = loc.cells[inside]
-        dn = shape_grad(
-            self.mesh.dim, self.mesh.order, loc.bary[inside], self.mesh.index.grad_bary(cid)
-        )
-        out[inside] = np.einsum("pig,pi...->pg...", dn, self.values[self.mesh.cells[cid]])
+        dn = shape_dbary(self.mesh.dim, self.mesh.order, loc.bary[inside])
+        dbary = np.einsum("pij,pi...->pj...", dn, self.values[self.mesh.cells[cid]])
+        out[inside] = self.mesh.index.spatial_gradient(cid, dbary)
         return out
 
     def integrate(self, region: Region | None = None) -> float | np.ndarray:

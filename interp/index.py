@@ -141,15 +141,18 @@ class CellIndex:
         """Number of buckets in the grid."""
         return int(np.prod(self.shape))
 
-    def grad_bary(self, cells: np.ndarray) -> np.ndarray:
-        """Gradients of the barycentric coordinates of ``cells``, (n, dim+1, g).
+    def spatial_gradient(self, cells: np.ndarray, dbary: np.ndarray) -> np.ndarray:
+        """Spatial gradient, (n, g) or (n, g, c), of a field in ``cells`` given its
+        derivatives ``dbary``, (n, dim + 1) or (n, dim + 1, c), with respect to each
+        barycentric coordinate there.
 
-        In the mesh's own coordinates (the scaling is undone).
+        The chain rule: as the coordinates sum to one, the gradient is the sum over
+        b >= 1 of (dbary[b] - dbary[0]) times the gradient of coordinate b, which
+        the cell's affine map holds; in the mesh's own coordinates.
         """
         g = self.affine.shape[2]
-        inv = self.affine[cells, :g].transpose(0, 2, 1)
-        g0 = -inv.sum(axis=1, keepdims=True)
-        return np.concatenate([g0, inv], axis=1) / self.scale
+        rise = dbary[:, 1:] - dbary[:, :1]
+        return np.einsum("pab,pb...->pa...", self.affine[cells, :g], rise) / self.scale
 
     def locate_grid(self, axes: tuple[np.ndarray, ...]) -> Location:
         """Locate the nodes of a regular grid (the C-order points of its axes).
