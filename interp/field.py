@@ -12,7 +12,7 @@ import numpy as np
 from interp.basis import shape, shape_dbary
 from interp.errors import InterpError
 from interp.index import Location
-from interp.mesh import Mesh, as_points
+from interp.mesh import Mesh, as_floats, as_points
 
 if TYPE_CHECKING:
     from interp.regions import Region
@@ -54,12 +54,7 @@ class Field:
     ) -> None:
         if not isinstance(mesh, Mesh):
             raise InterpError(f"a Field needs an interp.Mesh, not {type(mesh).__name__}")
-        try:
-            vals = np.asarray(values, dtype=np.float64)
-        except (TypeError, ValueError) as exc:
-            raise InterpError(
-                f"values must be numbers, one row per mesh node ({mesh.n_nodes} nodes): {exc}"
-            ) from None
+        vals = as_floats(values, f"values must be numbers, one row per mesh node ({mesh.n_nodes})")
         if vals.ndim not in (1, 2) or vals.shape[0] != mesh.n_nodes:
             raise InterpError(
                 f"values must have one row per mesh node: the mesh has {mesh.n_nodes} nodes, "

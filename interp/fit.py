@@ -36,7 +36,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import Mesh, as_points, check_finite
+from interp.mesh import Mesh, as_floats, as_points, check_finite
 from interp.triangulate import merge_duplicates, triangulate
 
 #: smallest ratio of the last to the first pivot of the column-scaled design
@@ -109,7 +109,7 @@ def samples(points: object, values: object, order: int) -> Samples:
         raise InterpError(f"order must be 1 (linear, P1) or 2 (quadratic, P2); got {order!r}")
     pts = as_points(points)
     check_finite(pts)
-    vals = np.asarray(values, dtype=np.float64)
+    vals = as_floats(values, "values must be numbers, one row per point")
     if vals.ndim not in (1, 2) or vals.shape[0] != pts.shape[0]:
         raise InterpError(
             f"values must have one row per point: {pts.shape[0]} points but values of "

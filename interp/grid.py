@@ -18,6 +18,7 @@ from interp.errors import InterpError
 from interp.field import Field
 from interp.index import CellIndex, Location
 from interp.io import atomic_path, write_table
+from interp.mesh import as_floats
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -268,7 +269,7 @@ def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
     g = mesh_bounds.shape[1]
     if bounds is None:
         return mesh_bounds.astype(np.float64)
-    b = np.asarray(bounds, dtype=np.float64).ravel()
+    b = as_floats(bounds, f"bounds must be {2 * g} finite numbers (xmin, xmax, ...)").ravel()
     if b.size != 2 * g or not np.isfinite(b).all():
         raise InterpError(
             f"bounds must be {2 * g} finite numbers (xmin, xmax, ...) for a {g}D field; got "
@@ -288,7 +289,10 @@ def grid_spacing(spacing: object, g: int) -> np.ndarray:
     >>> grid_spacing(0.5, 2).tolist()
     [0.5, 0.5]
     """
-    s = np.broadcast_to(np.asarray(spacing, dtype=np.float64).ravel(), (g,)).copy()
+    s = as_floats(spacing, "spacing must be a positive number, or one per axis").ravel()
+    if s.size not in (1, g):
+        raise InterpError(f"spacing must be one number or {g}, one per axis; got {s.size}")
+    s = np.broadcast_to(s, (g,)).copy()
     if not (np.isfinite(s).all() and (s > 0).all()):
         raise InterpError(f"spacing must be positive; got {np.asarray(spacing).tolist()}")
     return s

@@ -53,12 +53,7 @@ def as_points(points: object, name: str = "points", gdim: int | None = None) -> 
     >>> as_points([1.0, 2.0], gdim=2).shape
     (1, 2)
     """
-    try:
-        arr = np.asarray(points, dtype=np.float64)
-    except (TypeError, ValueError) as exc:
-        raise InterpError(
-            f"{name} must be an (n, d) array of numbers with d in 1, 2 or 3: {exc}"
-        ) from None
+    arr = as_floats(points, f"{name} must be an (n, d) array of numbers with d in 1, 2 or 3")
     if arr.ndim == 1:
         arr = arr.reshape(1, -1) if gdim is not None and gdim > 1 else arr.reshape(-1, 1)
     if arr.ndim != 2 or arr.shape[1] not in (1, 2, 3):
@@ -71,6 +66,21 @@ def as_points(points: object, name: str = "points", gdim: int | None = None) -> 
             f"pass an (n, {gdim}) array"
         )
     return np.ascontiguousarray(arr)
+
+
+def as_floats(values: object, expected: str) -> np.ndarray:
+    """``values`` as a float64 array; input that is not numbers raises an
+    :class:`InterpError` that starts with ``expected``.
+
+    Examples
+    --------
+    >>> as_floats([1, 2], "spacing must be numbers").tolist()
+    [1.0, 2.0]
+    """
+    try:
+        return np.asarray(values, dtype=np.float64)
+    except (TypeError, ValueError) as exc:
+        raise InterpError(f"{expected}: {exc}") from None
 
 
 def check_finite(points: np.ndarray, name: str = "points") -> None:

@@ -267,3 +267,8 @@ def test_d_plus_one_values_are_enough(rng):
         field = fit(pts, z)
     assert field.mesh.n_cells == 1
     assert field([pts[[2, 5, 7]].mean(axis=0)])[0] == pytest.approx(3.0, rel=1e-12)
+
+
+def test_non_numeric_values_named():
+    with pytest.raises(InterpError, match="values must be numbers, one row per point"):
+        fit(np.eye(3)[:, :2] + [[0, 0], [0, 0], [1, 1]], ["a", "b", "c"])

@@ -86,6 +86,12 @@ def test_bad_grid_arguments():
     f = Field(square_mesh(1), np.zeros(4))
     with pytest.raises(InterpError, match="spacing must be positive"):
         to_grid(f, spacing=0)
+    with pytest.raises(InterpError, match="spacing must be a positive number, or one per axis"):
+        to_grid(f, spacing="fine")
+    with pytest.raises(InterpError, match="spacing must be one number or 2, one per axis; got 3"):
+        to_grid(f, spacing=(0.1, 0.1, 0.1))
+    with pytest.raises(InterpError, match="bounds must be 4 finite numbers"):
+        to_grid(f, spacing=0.1, bounds=("a", 1, 0, 1))
     with pytest.raises(InterpError, match="4 finite numbers"):
         to_grid(f, spacing=0.1, bounds=(0, 1))
     with pytest.raises(InterpError, match="maximum below"):
