@@ -36,7 +36,7 @@ import numba
 import numpy as np
 
 from interp.errors import InterpError
-from interp.mesh import Mesh, as_points
+from interp.mesh import Mesh, as_points, box_frame
 
 #: how far outside a cell, in barycentric units, a point still counts as inside.
 TOLERANCE = 1e-10
@@ -114,8 +114,7 @@ class CellIndex:
             )
         g = mesh.gdim
         lo, hi = mesh.bounds
-        self.center = 0.5 * (lo + hi)
-        self.scale = float(0.5 * (hi - lo).max()) or 1.0
+        self.center, self.scale = box_frame(lo, hi)
         pad = 1e-9
         self.lo = (lo - self.center) / self.scale - pad
         extent = np.maximum((hi - lo) / self.scale + 2 * pad, 1e-12)

@@ -83,6 +83,31 @@ def as_floats(values: object, expected: str) -> np.ndarray:
         raise InterpError(f"{expected}: {exc}") from None
 
 
+def is_flat(vol: np.ndarray, size: np.ndarray, dim: int) -> np.ndarray:
+    """Cells of zero measure relative to their size, which a :class:`Mesh` refuses:
+    ``vol <= DEGENERATE * size**dim`` (``size`` as :func:`simplex_geometry` gives it).
+
+    Examples
+    --------
+    >>> is_flat(np.array([0.5, 1e-14]), np.array([1.0, 1.0]), 2).tolist()
+    [False, True]
+    """
+    return vol <= DEGENERATE * size**dim
+
+
+def box_frame(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, float]:
+    """Centre of the box [lo, hi] and half its longest side (1 for a single point):
+    ``(x - centre) / scale`` maps the box into [-1, 1] on every axis.
+
+    Examples
+    --------
+    >>> c, s = box_frame(np.array([0.0, 0.0]), np.array([4.0, 2.0]))
+    >>> c.tolist(), s
+    ([2.0, 1.0], 2.0)
+    """
+    return 0.5 * (lo + hi), float(0.5 * (hi - lo).max()) or 1.0
+
+
 def check_finite(points: np.ndarray, name: str = "points") -> None:
     """Raise if any coordinate is NaN or infinite, naming how many and the first.
 
@@ -591,7 +616,7 @@ def _bad_cells(cells, n):  # pragma: no cover
 
 def _check_measure(mesh: Mesh) -> None:
     vol, size = mesh._geometry
-    bad = vol <= DEGENERATE * size**mesh.dim
+    bad = is_flat(vol, size, mesh.dim)
     if bad.any():
         idx = np.flatnonzero(bad)
         raise InterpError(

@@ -14,7 +14,7 @@ import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
 from interp.errors import InterpError
-from interp.mesh import DEGENERATE, Mesh, as_points, check_finite, simplex_geometry
+from interp.mesh import Mesh, as_points, box_frame, check_finite, is_flat, simplex_geometry
 from interp.polygon import as_ring, contains
 
 
@@ -156,7 +156,7 @@ def _drop_flat(
     Cells of a nearly flat cloud carry real volume: dropping them is reported.
     """
     d = cells.shape[1] - 1
-    flat = vol <= DEGENERATE * size**d
+    flat = is_flat(vol, size, d)
     if not flat.any():
         return cells, vol, size
     what = ("length", "area", "volume")[d - 1]
@@ -210,9 +210,8 @@ def _distinct(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def _normalised(points: np.ndarray) -> tuple[np.ndarray, float]:
     """Points centred on their bounding box and divided by the returned scale, so
     they fill [-1, 1] (Qhull's accuracy)."""
-    lo, hi = points.min(axis=0), points.max(axis=0)
-    scale = float(0.5 * (hi - lo).max()) or 1.0
-    return (points - 0.5 * (lo + hi)) / scale, scale
+    centre, scale = box_frame(points.min(axis=0), points.max(axis=0))
+    return (points - centre) / scale, scale
 
 
 def _flat(x: np.ndarray) -> bool:
