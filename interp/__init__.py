@@ -4,6 +4,34 @@ Build a :class:`Mesh` (or :func:`triangulate` scattered points), wrap node
 values in a :class:`Field`, and evaluate, differentiate, integrate, grid or
 view it.
 
+Modules, in the one-way order of their imports (each imports only modules
+above it in this list):
+
+- :mod:`interp.errors`: ``InterpError`` and ``RenderingUnavailable``;
+- :mod:`interp._arrays`: input coercion (points, numbers, lengths, dask arrays);
+- :mod:`interp._geometry`: determinants, inverses, barycentric coordinates,
+  measures, affine maps, and every tolerance;
+- :mod:`interp.parallel`: the dask layer (imports no interp class: the core
+  hands it objects and it calls their methods);
+- :mod:`interp.basis`: P1/P2 shape functions;
+- :mod:`interp.index`: the bucket grid and point location;
+- :mod:`interp.mesh`: ``Mesh``, its affine maps and spatial gradients;
+- :mod:`interp.polygon`: rings and point-in-polygon;
+- :mod:`interp.io`: files (meshes, point tables, polygons, grids by suffix,
+  atomic writes);
+- :mod:`interp.field`: ``Field``;
+- :mod:`interp.regions`: ``Polygon``, ``Box``, ``HalfSpace``, ``LevelSet``,
+  ``Intersection``;
+- :mod:`interp._quadrature`, :mod:`interp.clip`, :mod:`interp._integrate`:
+  rules, exact clipping, integrals;
+- :mod:`interp._overlay`, :mod:`interp.volume`, :mod:`interp.projection`:
+  common refinement, cut and fill, L2 projection;
+- :mod:`interp._triangulate`, :mod:`interp._fit`, :mod:`interp._validate`:
+  Delaunay with masks, scattered data to fields, leave-one-out;
+- :mod:`interp.grid`, :mod:`interp.resample`: regular grids, transfer and profiles;
+- :mod:`interp.source`, :mod:`interp.view`, :mod:`interp.demo`, :mod:`interp.cli`:
+  files as fields, pictures, the demo, the command line.
+
 Examples
 --------
 >>> import numpy as np
@@ -14,23 +42,32 @@ Examples
 [1.0]
 """
 
+from interp._fit import fit
+from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
+from interp._overlay import Overlay, overlay
+from interp._quadrature import quadrature
+from interp._triangulate import triangulate
+from interp._validate import crossvalidate, residual_summary
 from interp.clip import Pieces
-from interp.errors import InterpError
+from interp.errors import InterpError, RenderingUnavailable
 from interp.field import Field
-from interp.fit import fit
-from interp.grid import Grid, to_grid
+from interp.grid import Grid, open_zarr, to_grid
 from interp.index import Location, locate
-from interp.integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp.io import read, read_points, read_polygon, write
 from interp.mesh import Mesh
-from interp.overlay import Overlay, overlay
-from interp.quadrature import quadrature
 from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
 from interp.resample import Profile, profile, transfer
 from interp.source import load
-from interp.triangulate import triangulate
-from interp.validate import crossvalidate, residual_summary
-from interp.view import show, show_difference, show_profile, show_residuals
+from interp.view import (
+    plot,
+    plot_difference,
+    plot_profile,
+    plot_residuals,
+    show,
+    show_difference,
+    show_profile,
+    show_residuals,
+)
 from interp.volume import Volumes, volume_between
 
 __all__ = [
@@ -48,6 +85,7 @@ __all__ = [
     "Polygon",
     "Profile",
     "Region",
+    "RenderingUnavailable",
     "Volumes",
     "crossvalidate",
     "fit",
@@ -58,7 +96,12 @@ __all__ = [
     "mean",
     "measure",
     "norm_l2",
+    "open_zarr",
     "overlay",
+    "plot",
+    "plot_difference",
+    "plot_profile",
+    "plot_residuals",
     "profile",
     "quadrature",
     "read",

@@ -30,15 +30,14 @@ from math import factorial
 import numba
 import numpy as np
 
+from interp._geometry import SLIVER, barycentric, det, simplex_geometry
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import Location
-from interp.mesh import Mesh, barycentric, det, simplex_geometry
+from interp.mesh import Mesh
 from interp.polygon import EdgeGrid, bin_index, inside, ring_edges
 from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
 
-#: pieces with measure below this, relative to their size**dim, are round-off and dropped.
-SLIVER = 1e-14
 #: triangles sampled to pick the bucket width of a polygon's edge grid.
 SAMPLE = 20000
 #: the kinds of region that clipping knows how to cut along.

@@ -17,16 +17,16 @@ import json
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from interp._fit import fit
+from interp._integrate import integrate
+from interp._validate import crossvalidate, residual_summary
 from interp.errors import InterpError, RenderingUnavailable
 from interp.field import Field
-from interp.fit import fit
 from interp.grid import to_grid
-from interp.integrate import integrate
 from interp.io import atomic_path, read, read_points, read_polygon
 from interp.regions import Polygon
 from interp.resample import profile
 from interp.source import sample_file
-from interp.validate import crossvalidate, residual_summary
 from interp.volume import volume_between
 
 #: the bundled demo data, beside the package in a source checkout

@@ -14,11 +14,13 @@ from pathlib import Path
 
 import numpy as np
 
+from interp import parallel
+from interp._arrays import as_floats
+from interp._geometry import grid_nodes
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import CellIndex, Location
-from interp.io import atomic_path, write_table
-from interp.mesh import as_floats
+from interp.io import read_zarr, save_grid
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -73,8 +75,7 @@ class Grid:
 
     def points(self) -> np.ndarray:
         """Coordinates of every node, (N, g), in the C order of the field arrays."""
-        mesh = np.meshgrid(*self.axes, indexing="ij")
-        return np.stack([m.ravel() for m in mesh], axis=1)
+        return grid_nodes(self.axes)
 
     def save(self, path: str | Path) -> Path:
         """Write the grid, choosing the format by the file extension.
@@ -95,101 +96,22 @@ class Grid:
         ...     sorted(np.load(out).files)
         ['x', 'y', 'z']
         """
-        path = Path(path)
-        suffix = path.suffix.lower()
-        if suffix == ".zarr":
-            from interp.parallel import save_zarr
-
-            return save_zarr(self, path)
-        if suffix == ".csv":
-            return write_table(path, *self._columns())
-        writer = _WRITERS.get(suffix)
-        if writer is None:
-            raise InterpError(
-                f"cannot save a grid as {path.name!r}: use .csv, .zarr, {', '.join(_WRITERS)}"
-            )
-        with atomic_path(path) as tmp:
-            writer(self, tmp)
-        return path
-
-    def _columns(self) -> tuple[list[str], np.ndarray]:
-        """Column names and the (N, k) table of node coordinates and field values."""
-        names, cols = field_columns(self.fields, int(np.prod(self.shape)))
-        return list("xyz"[: len(self.axes)]) + names, np.hstack([self.points(), cols])
+        return save_grid(self, path)
 
 
-def component_names(name: str, k: int) -> list[str]:
-    """Column names of a field with k components: the name, or name_0 .. name_{k-1}.
+def open_zarr(path: str | Path) -> Grid:
+    """Open a grid written as ``.zarr`` by :meth:`Grid.save`; its fields are lazy dask arrays.
 
     Examples
     --------
-    >>> component_names("z", 1), component_names("u", 2)
-    (['z'], ['u_0', 'u_1'])
+    >>> import tempfile
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.arange(6.0).reshape(3, 2)})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     back = open_zarr(g.save(Path(d) / "g.zarr"))
+    ...     back.shape, back.fields["z"][2].compute().tolist()
+    ((3, 2), [4.0, 5.0])
     """
-    return [name] if k == 1 else [f"{name}_{c}" for c in range(k)]
-
-
-def field_columns(fields: Mapping[str, np.ndarray], n: int) -> tuple[list[str], np.ndarray]:
-    """Named fields of n values (+ components) as column names and an (n, k) table.
-
-    Examples
-    --------
-    >>> field_columns({"z": np.zeros(2), "u": np.ones((2, 2))}, 2)[0]
-    ['z', 'u_0', 'u_1']
-    """
-    flat = [v.reshape(n, -1) for v in fields.values()]
-    names = [
-        c for name, v in zip(fields, flat, strict=True) for c in component_names(name, v.shape[1])
-    ]
-    return names, np.hstack(flat)
-
-
-def _write_npz(grid: Grid, path: Path) -> None:
-    arrays = dict(zip("xyz", grid.axes, strict=False))
-    clash = set(arrays) & set(grid.fields)
-    if clash:
-        raise InterpError(f"field names {sorted(clash)} clash with the coordinate arrays in .npz")
-    with open(path, "wb") as fh:
-        np.savez_compressed(fh, **arrays, **grid.fields)
-
-
-def _write_vti(grid: Grid, path: Path) -> None:
-    g = len(grid.axes)
-    n = list(grid.shape) + [1] * (3 - g)
-    origin = [float(a[0]) for a in grid.axes] + [0.0] * (3 - g)
-    spacing = [s or 1.0 for s in grid.spacing] + [1.0] * (3 - g)
-    extent = " ".join(f"0 {k - 1}" for k in n)
-    blocks, arrays, offset = [], [], 0
-    for name, v in grid.fields.items():
-        comps = 1 if v.ndim == g else v.shape[-1]
-        # VTK stores x fastest: reverse the spatial axes, keep components last
-        axes = tuple(range(g))[::-1] + tuple(range(g, v.ndim))
-        data = np.ascontiguousarray(np.transpose(v, axes))
-        raw = data.astype("<f8").tobytes()
-        arrays.append(
-            f'<DataArray type="Float64" Name="{name}" NumberOfComponents="{comps}" '
-            f'format="appended" offset="{offset}"/>'
-        )
-        blocks.append(np.uint64(len(raw)).tobytes() + raw)
-        offset += 8 + len(raw)
-    head = (
-        '<?xml version="1.0"?>\n'
-        '<VTKFile type="ImageData" version="1.0" byte_order="LittleEndian" '
-        'header_type="UInt64">\n'
-        f'<ImageData WholeExtent="{extent}" Origin="{" ".join(map(repr, origin))}" '
-        f'Spacing="{" ".join(map(repr, spacing))}">\n'
-        f'<Piece Extent="{extent}">\n<PointData>\n' + "\n".join(arrays) + "\n</PointData>\n"
-        "</Piece>\n</ImageData>\n"
-        '<AppendedData encoding="raw">\n_'
-    )
-    with open(path, "wb") as fh:
-        fh.write(head.encode())
-        for b in blocks:
-            fh.write(b)
-        fh.write(b"\n</AppendedData>\n</VTKFile>\n")
-
-
-_WRITERS = {".npz": _write_npz, ".vti": _write_vti}
+    return Grid(*read_zarr(path))
 
 
 def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]:
@@ -348,9 +270,7 @@ def to_grid(
     axes = grid_axes(grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim))
     units = {n: f.units for n, f in named.items() if f.units}
     if chunks is not None:
-        from interp.parallel import grid as lazy_grid
-
-        return Grid(axes, lazy_grid(named, axes, chunks), units)
+        return Grid(axes, parallel.grid(named, axes, chunks), units)
     shape = tuple(len(a) for a in axes)
     total = int(np.prod(shape))
     if total > MAX_NODES:

@@ -31,23 +31,17 @@ import os
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
+from typing import Protocol
 
 import numba
 import numpy as np
 
-from interp.errors import InterpError
-from interp.mesh import Mesh, as_points, box_frame
+from interp._arrays import as_points
+from interp._geometry import MARGIN, TIE, TOLERANCE, check_fills_space
 
-#: how far outside a cell, in barycentric units, a point still counts as inside.
-TOLERANCE = 1e-10
-#: barycentric difference below which two containing cells are a tie.
-TIE = 1e-12
 #: buckets per cell in the index grid, by dimension (tuned with scripts/bench.py:
 #: a tetrahedron's bounding box is large for its volume, so 3D takes fewer).
 BUCKETS_PER_CELL = {1: 2.0, 2: 1.0, 3: 0.5}
-#: barycentric margin, well above rounding, by which a bucket must miss a cell's
-#: planes to leave the cell off the bucket's list.
-MARGIN = 1e-8
 #: meshes with fewer cells build their index in one thread.
 PARALLEL_CELLS = 1 << 16
 #: query points handled per block (bounds the temporary memory to about 20 MiB).
@@ -82,8 +76,23 @@ class Location:
         return self.cells >= 0
 
 
+class Cells(Protocol):
+    """What the index reads of a mesh: an :class:`interp.Mesh` (which builds its
+    index, so this module cannot import it)."""
+
+    points: np.ndarray
+    corners: np.ndarray
+    bounds: np.ndarray
+    affine: np.ndarray
+    frame: tuple[np.ndarray, float]
+    dim: int
+    gdim: int
+    n_cells: int
+    cell_type: str
+
+
 class CellIndex:
-    """Bucket grid over a mesh's cells with the affine maps of every cell.
+    """Bucket grid over a mesh's cells, reading the mesh's affine map of every cell.
 
     Built once per mesh (see :attr:`interp.Mesh.index`) and reused by every
     query.
@@ -106,31 +115,27 @@ class CellIndex:
     [[0, 1], [0, 1], [0, 1], [0, 1]]
     """
 
-    def __init__(self, mesh: Mesh) -> None:
-        if mesh.dim != mesh.gdim:
-            raise InterpError(
-                f"point location needs cells that fill their space; this mesh has "
-                f"{mesh.cell_type} cells in {mesh.gdim}D (an embedded surface or curve)"
-            )
+    def __init__(self, mesh: Cells) -> None:
+        check_fills_space(mesh.dim, mesh.gdim, mesh.cell_type, "point location")
         g = mesh.gdim
         lo, hi = mesh.bounds
-        self.center, self.scale = box_frame(lo, hi)
+        self.center, self.scale = mesh.frame
         pad = 1e-9
         self.lo = (lo - self.center) / self.scale - pad
         extent = np.maximum((hi - lo) / self.scale + 2 * pad, 1e-12)
         h = (np.prod(extent) / (BUCKETS_PER_CELL[g] * mesh.n_cells)) ** (1.0 / g)
         self.shape = np.maximum(np.ceil(extent / h), 1).astype(np.int64)
         self.h = extent / self.shape
-        # bary[1:] = x @ affine[c, :g] + affine[c, g]: one block of memory per cell
-        self.affine = np.empty((mesh.n_cells, g + 1, g))
+        # bary[1:] = x @ affine[c, :g] + affine[c, g] in the frame: the mesh's maps
+        self.affine = mesh.affine
         i0 = np.empty((mesh.n_cells, g), dtype=np.int32)  # bucket range of each cell's box
         i1 = np.empty_like(i0)
         scaled = (mesh.points - self.center) / self.scale
-        _in_parts(
+        in_parts(
             mesh.n_cells,
-            _threads(mesh.n_cells, mesh.n_cells),
-            lambda c0, c1: _cell_maps(
-                scaled, mesh.corners, self.lo, self.h, self.shape, pad, self.affine, i0, i1, c0, c1
+            threads(mesh.n_cells, mesh.n_cells),
+            lambda c0, c1: _cell_boxes(
+                scaled, mesh.corners, self.lo, self.h, self.shape, pad, i0, i1, c0, c1
             ),
         )
         self.start, self.members = _bucket_cells(i0, i1, self.lo, self.h, self.shape, self.affine)
@@ -139,19 +144,6 @@ class CellIndex:
     def n_buckets(self) -> int:
         """Number of buckets in the grid."""
         return int(np.prod(self.shape))
-
-    def spatial_gradient(self, cells: np.ndarray, dbary: np.ndarray) -> np.ndarray:
-        """Spatial gradient, (n, g) or (n, g, c), of a field in ``cells`` given its
-        derivatives ``dbary``, (n, dim + 1) or (n, dim + 1, c), with respect to each
-        barycentric coordinate there.
-
-        The chain rule: as the coordinates sum to one, the gradient is the sum over
-        b >= 1 of (dbary[b] - dbary[0]) times the gradient of coordinate b, which
-        the cell's affine map holds; in the mesh's own coordinates.
-        """
-        g = self.affine.shape[2]
-        rise = dbary[:, 1:] - dbary[:, :1]
-        return np.einsum("pab,pb...->pa...", self.affine[cells, :g], rise) / self.scale
 
     def locate_grid(self, axes: tuple[np.ndarray, ...]) -> Location:
         """Locate the nodes of a regular grid (the C-order points of its axes).
@@ -185,39 +177,10 @@ class CellIndex:
 
 
 @numba.njit(cache=True, nogil=True)
-def _cell_maps(points, corners, lo, h, shape, pad, affine, i0, i1, c0, c1):  # pragma: no cover
-    """Affine map to barycentric coordinates and bucket range of cells c0 to c1 - 1."""
+def _cell_boxes(points, corners, lo, h, shape, pad, i0, i1, c0, c1):  # pragma: no cover
+    """Bucket range of the bounding box of cells c0 to c1 - 1."""
     g = i0.shape[1]
-    e = np.empty((g, g))
-    inv = np.empty((g, g))
     for c in range(c0, c1):
-        v0 = corners[c, 0]
-        for r in range(g):
-            for a in range(g):
-                e[r, a] = points[corners[c, r + 1], a] - points[v0, a]
-        if g == 1:
-            inv[0, 0] = 1.0 / e[0, 0]
-        elif g == 2:
-            d = e[0, 0] * e[1, 1] - e[0, 1] * e[1, 0]
-            inv[0, 0], inv[0, 1] = e[1, 1] / d, -e[0, 1] / d
-            inv[1, 0], inv[1, 1] = -e[1, 0] / d, e[0, 0] / d
-        else:
-            # rows of the inverse of the matrix whose columns are e[:, a]: cross products
-            for r in range(3):
-                p, q = (r + 1) % 3, (r + 2) % 3
-                inv[r, 0] = e[1, p] * e[2, q] - e[2, p] * e[1, q]
-                inv[r, 1] = e[2, p] * e[0, q] - e[0, p] * e[2, q]
-                inv[r, 2] = e[0, p] * e[1, q] - e[1, p] * e[0, q]
-            d = e[0, 0] * inv[0, 0] + e[1, 0] * inv[0, 1] + e[2, 0] * inv[0, 2]
-            for r in range(3):
-                for a in range(3):
-                    inv[r, a] /= d
-        for b in range(g):
-            shift = 0.0
-            for a in range(g):
-                affine[c, a, b] = inv[a, b]
-                shift -= points[v0, a] * inv[a, b]
-            affine[c, g, b] = shift
         for a in range(g):
             cmin = np.inf
             cmax = -np.inf
@@ -246,9 +209,9 @@ def _bucket_cells(i0, i1, lo, h, shape, affine):
     runs = np.empty((int(rows.sum()), 2), dtype=np.int32)
     start = np.zeros(int(np.prod(shape)) + 1, dtype=np.int64)
     n0 = int(shape[0])
-    parts = _threads(m, n0 if g > 1 else 1)  # slabs of the first grid axis (one in 1D)
+    parts = threads(m, n0 if g > 1 else 1)  # slabs of the first grid axis (one in 1D)
     count = start[1:]
-    _in_parts(
+    in_parts(
         n0,
         parts,
         lambda a0, a1: _find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count),
@@ -257,14 +220,20 @@ def _bucket_cells(i0, i1, lo, h, shape, affine):
     # half the memory, and faster scans, wherever cell numbers fit
     members = np.empty(start[-1], dtype=np.int32 if m < 2**31 else np.int64)
     slot = start[:-1].copy()
-    _in_parts(
+    in_parts(
         n0, parts, lambda a0, a1: _fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members)
     )
     return start, members
 
 
-def _threads(n_cells: int, parts: int) -> int:
-    """Threads for building the index of a mesh of ``n_cells`` in at most ``parts``."""
+def threads(n_cells: int, parts: int) -> int:
+    """Threads for building the index of a mesh of ``n_cells`` in at most ``parts``.
+
+    Examples
+    --------
+    >>> threads(10, 4)
+    1
+    """
     return 1 if n_cells < PARALLEL_CELLS else max(1, min(_cores(), parts))
 
 
@@ -276,9 +245,17 @@ def _cores() -> int:
         return os.cpu_count() or 1
 
 
-def _in_parts(n: int, parts: int, work: Callable[[int, int], None]) -> None:
+def in_parts(n: int, parts: int, work: Callable[[int, int], None]) -> None:
     """Run ``work(a0, a1)`` on [0, n) cut into ``parts`` ranges, in threads when there
-    are several (the compiled kernels release the GIL)."""
+    are several (the compiled kernels release the GIL).
+
+    Examples
+    --------
+    >>> done = []
+    >>> in_parts(10, 2, lambda a0, a1: done.append((a0, a1)))
+    >>> sorted(done)
+    [(0, 5), (5, 10)]
+    """
     if parts == 1:
         work(0, n)
         return
@@ -512,7 +489,7 @@ def _scan_grid(ax, ay, az, lo, h, shape, start, members, affine, cells, bary):  
                 p += 1
 
 
-def locate(mesh: Mesh, query: object) -> Location:
+def locate(mesh: Cells, query: object) -> Location:
     """Find the containing cell and barycentric coordinates of each query point.
 
     Parameters

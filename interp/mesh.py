@@ -13,17 +13,17 @@ first :meth:`Mesh.locate` and cached.
 from __future__ import annotations
 
 from functools import cached_property
-from math import comb, factorial
-from typing import TYPE_CHECKING
+from math import comb
 
 import numba
 import numpy as np
 
+from interp import parallel
+from interp._arrays import as_points, check_finite, is_dask
+from interp._geometry import affine_maps, box_frame, check_fills_space, is_flat, simplex_geometry
 from interp.basis import EDGES
 from interp.errors import InterpError
-
-if TYPE_CHECKING:
-    from interp.index import CellIndex, Location
+from interp.index import CellIndex, Location, in_parts, locate, threads
 
 #: meshio cell type names by (topological dimension, order).
 CELL_TYPES = {
@@ -35,227 +35,6 @@ CELL_TYPES = {
     (3, 2): "tetra10",
 }
 _KIND = {name: key for key, name in CELL_TYPES.items()}
-
-#: relative size below which a cell counts as degenerate (zero measure).
-DEGENERATE = 1e-12
-
-
-def as_points(points: object, name: str = "points", gdim: int | None = None) -> np.ndarray:
-    """Return ``points`` as a C-contiguous (n, g) float64 array.
-
-    A 1-D array is read as n points on a line when ``gdim`` is 1 or unknown,
-    and as a single point when ``gdim`` equals its length.
-
-    Examples
-    --------
-    >>> as_points([0.0, 1.0, 2.0]).shape
-    (3, 1)
-    >>> as_points([1.0, 2.0], gdim=2).shape
-    (1, 2)
-    """
-    arr = as_floats(points, f"{name} must be an (n, d) array of numbers with d in 1, 2 or 3")
-    if arr.ndim == 1:
-        arr = arr.reshape(1, -1) if gdim is not None and gdim > 1 else arr.reshape(-1, 1)
-    if arr.ndim != 2 or arr.shape[1] not in (1, 2, 3):
-        raise InterpError(
-            f"{name} must have shape (n, d) with d in 1, 2 or 3; got shape {np.shape(points)}"
-        )
-    if gdim is not None and arr.shape[1] != gdim:
-        raise InterpError(
-            f"{name} have {arr.shape[1]} coordinates per point but the mesh is in {gdim}D; "
-            f"pass an (n, {gdim}) array"
-        )
-    return np.ascontiguousarray(arr)
-
-
-def as_floats(values: object, expected: str) -> np.ndarray:
-    """``values`` as a float64 array; input that is not numbers raises an
-    :class:`InterpError` that starts with ``expected``.
-
-    Examples
-    --------
-    >>> as_floats([1, 2], "spacing must be numbers").tolist()
-    [1.0, 2.0]
-    """
-    try:
-        return np.asarray(values, dtype=np.float64)
-    except (TypeError, ValueError) as exc:
-        raise InterpError(f"{expected}: {exc}") from None
-
-
-def is_flat(vol: np.ndarray, size: np.ndarray, dim: int) -> np.ndarray:
-    """Cells of zero measure relative to their size, which a :class:`Mesh` refuses:
-    ``vol <= DEGENERATE * size**dim`` (``size`` as :func:`simplex_geometry` gives it).
-
-    Examples
-    --------
-    >>> is_flat(np.array([0.5, 1e-14]), np.array([1.0, 1.0]), 2).tolist()
-    [False, True]
-    """
-    return vol <= DEGENERATE * size**dim
-
-
-def box_frame(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, float]:
-    """Centre of the box [lo, hi] and half its longest side (1 for a single point):
-    ``(x - centre) / scale`` maps the box into [-1, 1] on every axis.
-
-    Examples
-    --------
-    >>> c, s = box_frame(np.array([0.0, 0.0]), np.array([4.0, 2.0]))
-    >>> c.tolist(), s
-    ([2.0, 1.0], 2.0)
-    """
-    return 0.5 * (lo + hi), float(0.5 * (hi - lo).max()) or 1.0
-
-
-def check_finite(points: np.ndarray, name: str = "points") -> None:
-    """Raise if any coordinate is NaN or infinite, naming how many and the first.
-
-    Examples
-    --------
-    >>> check_finite(np.zeros((2, 2)))
-    """
-    bad = ~np.isfinite(points).all(axis=1)
-    if bad.any():
-        idx = np.flatnonzero(bad)
-        raise InterpError(
-            f"{name}: {idx.size} point(s) have NaN or infinite coordinates, the first at "
-            f"index {idx[0]}; remove or fill them before building a mesh"
-        )
-
-
-def det(a: np.ndarray) -> np.ndarray:
-    """Determinants of a stack of 1x1, 2x2 or 3x3 matrices (closed form).
-
-    Examples
-    --------
-    >>> float(det(np.array([[[2.0, 1.0], [1.0, 3.0]]]))[0])
-    5.0
-    """
-    n = a.shape[-1]
-    if n == 1:
-        return a[..., 0, 0].copy()
-    if n == 2:
-        return a[..., 0, 0] * a[..., 1, 1] - a[..., 0, 1] * a[..., 1, 0]
-    return (
-        a[..., 0, 0] * (a[..., 1, 1] * a[..., 2, 2] - a[..., 1, 2] * a[..., 2, 1])
-        - a[..., 0, 1] * (a[..., 1, 0] * a[..., 2, 2] - a[..., 1, 2] * a[..., 2, 0])
-        + a[..., 0, 2] * (a[..., 1, 0] * a[..., 2, 1] - a[..., 1, 1] * a[..., 2, 0])
-    )
-
-
-def inverse(a: np.ndarray) -> np.ndarray:
-    """Inverses of a stack of 1x1, 2x2 or 3x3 matrices by the adjugate (closed form).
-
-    Examples
-    --------
-    >>> inverse(np.array([[[2.0, 1.0], [1.0, 1.0]]])).tolist()
-    [[[1.0, -1.0], [-1.0, 2.0]]]
-    """
-    n = a.shape[-1]
-    if n == 1:
-        return 1.0 / a
-    if n == 2:
-        adj = np.stack([a[:, 1, 1], -a[:, 0, 1], -a[:, 1, 0], a[:, 0, 0]], axis=1)
-        return (adj / det(a)[:, None]).reshape(-1, 2, 2)
-    c0, c1, c2 = a[:, :, 0], a[:, :, 1], a[:, :, 2]
-    rows = np.stack([np.cross(c1, c2), np.cross(c2, c0), np.cross(c0, c1)], axis=1)
-    return rows / det(a)[:, None, None]
-
-
-def barycentric(simplex: np.ndarray, x: np.ndarray) -> np.ndarray:
-    """Barycentric coordinates (p, k, t+1) of points x (p, k, g) in simplices (p, t+1, g).
-
-    Solves x - c0 = sum_i L_i (c_i - c0) with the closed-form inverse of the
-    edge vectors; an embedded cell's edges are first completed to a basis of
-    space by normals to the cell, so its points are projected orthogonally
-    onto the cell's plane or line.
-
-    Examples
-    --------
-    >>> tri = np.array([[[0.0, 0, 0], [2, 0, 0], [0, 2, 0]]])
-    >>> barycentric(tri, np.array([[[1.0, 0.5, 3.0]]])).tolist()
-    [[[0.25, 0.5, 0.25]]]
-    """
-    edges = simplex[:, 1:] - simplex[:, :1]
-    t = edges.shape[1]
-    if t < edges.shape[2]:
-        edges = np.concatenate([edges, _normals(edges)], axis=1)
-    lam = (x - simplex[:, :1]) @ inverse(edges)[:, :, :t]
-    return np.concatenate([1.0 - lam.sum(axis=2, keepdims=True), lam], axis=2)
-
-
-def _normals(edges: np.ndarray) -> np.ndarray:
-    """Vectors (p, g - t, g) completing the edges (p, t, g) of embedded cells to a basis."""
-    e = edges[:, 0]
-    if edges.shape[2] == 2:
-        return np.stack([-e[:, 1], e[:, 0]], axis=1)[:, None]
-    if edges.shape[1] == 2:
-        return np.cross(e, edges[:, 1])[:, None]
-    across = np.cross(e, np.eye(3)[np.argmin(np.abs(e), axis=1)])
-    return np.stack([across, np.cross(e, across)], axis=1)
-
-
-def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Measure and size of simplices given by their corners (m, t+1, g).
-
-    The measure (length, area or volume) is |det E| / t! of the edge vectors E
-    from corner 0 when t == g, and the Gram determinant sqrt(det(E E^T)) / t!
-    for a simplex embedded in a higher-dimensional space.  The size is the
-    largest coordinate difference along those edges, the scale against which
-    a measure counts as zero.
-
-    Examples
-    --------
-    >>> vol, size = simplex_geometry(np.array([[[0.0, 0], [1, 0], [0, 2]]]))
-    >>> float(vol[0]), float(size[0])
-    (1.0, 2.0)
-    """
-    corners = np.ascontiguousarray(corners, dtype=np.float64)
-    vol = np.empty(corners.shape[0])
-    size = np.empty(corners.shape[0])
-    _geometry(corners, vol, size)
-    return vol / factorial(corners.shape[1] - 1), size
-
-
-@numba.njit(cache=True, nogil=True)
-def _det(a, n):  # pragma: no cover
-    """Determinant of the leading n x n block of a (n <= 3), expanded as :func:`det`."""
-    if n == 1:
-        return a[0, 0]
-    if n == 2:
-        return a[0, 0] * a[1, 1] - a[0, 1] * a[1, 0]
-    return (
-        a[0, 0] * (a[1, 1] * a[2, 2] - a[1, 2] * a[2, 1])
-        - a[0, 1] * (a[1, 0] * a[2, 2] - a[1, 2] * a[2, 0])
-        + a[0, 2] * (a[1, 0] * a[2, 1] - a[1, 1] * a[2, 0])
-    )
-
-
-@numba.njit(cache=True, nogil=True)
-def _geometry(corners, vol, size):  # pragma: no cover
-    """|det E| (or sqrt det E E^T) and the largest |E| entry of each simplex's edges E."""
-    m, k, g = corners.shape
-    t = k - 1
-    e = np.empty((3, 3))
-    gram = np.empty((3, 3))
-    for c in range(m):
-        big = 0.0
-        for r in range(t):
-            for a in range(g):
-                e[r, a] = corners[c, r + 1, a] - corners[c, 0, a]
-                big = max(big, abs(e[r, a]))
-        size[c] = big
-        if t == g:
-            vol[c] = abs(_det(e, t))
-            continue
-        for r in range(t):
-            for q in range(t):
-                s = 0.0
-                for a in range(g):
-                    s += e[r, a] * e[q, a]
-                gram[r, q] = s
-        vol[c] = np.sqrt(max(_det(gram, t), 0.0))
 
 
 class Mesh:
@@ -526,10 +305,65 @@ class Mesh:
         return Mesh(self._points, self.corners, cell_type=CELL_TYPES[self._dim, 1])
 
     @cached_property
+    def frame(self) -> tuple[np.ndarray, float]:
+        """Centre and scale of the bounding box: ``(x - centre) / scale`` lies in [-1, 1].
+
+        Examples
+        --------
+        >>> Mesh([[0.0, 0], [4, 0], [0, 2]], [[0, 1, 2]]).frame
+        (array([2., 1.]), 2.0)
+        """
+        return box_frame(*self.bounds)
+
+    @cached_property
+    def affine(self) -> np.ndarray:
+        """Affine maps of the cells to barycentric coordinates, (m, g + 1, g), in the
+        centred, scaled coordinates of :attr:`frame`: for ``y = (x - centre) / scale``,
+        ``bary[1:] = y @ affine[c, :g] + affine[c, g]`` (one block of memory per cell).
+
+        Read by point location and :meth:`spatial_gradient`; needs cells that fill
+        their space.
+
+        Examples
+        --------
+        >>> Mesh([0.0, 2.0], [[0, 1]]).affine.tolist()
+        [[[0.5], [0.5]]]
+        """
+        check_fills_space(self._dim, self.gdim, self.cell_type, "point location")
+        g = self.gdim
+        centre, scale = self.frame
+        scaled = (self._points - centre) / scale
+        out = np.empty((self.n_cells, g + 1, g))
+        corners = np.ascontiguousarray(self.corners)
+        in_parts(
+            self.n_cells,
+            threads(self.n_cells, self.n_cells),
+            lambda c0, c1: affine_maps(scaled, corners, out, c0, c1),
+        )
+        return out
+
+    def spatial_gradient(self, cells: np.ndarray, dbary: np.ndarray) -> np.ndarray:
+        """Spatial gradient, (n, g) or (n, g, c), of a field in ``cells`` given its
+        derivatives ``dbary``, (n, dim + 1) or (n, dim + 1, c), with respect to each
+        barycentric coordinate there.
+
+        The chain rule: as the coordinates sum to one, the gradient is the sum over
+        b >= 1 of (dbary[b] - dbary[0]) times the gradient of coordinate b, which
+        the cell's affine map holds; in the mesh's own coordinates.
+
+        Examples
+        --------
+        >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+        >>> m.spatial_gradient(np.array([0]), np.array([[0.0, 2.0, 4.0]])).tolist()
+        [[2.0, 4.0]]
+        """
+        g = self.gdim
+        rise = dbary[:, 1:] - dbary[:, :1]
+        return np.einsum("pab,pb...->pa...", self.affine[cells, :g], rise) / self.frame[1]
+
+    @cached_property
     def index(self) -> CellIndex:
         """The spatial index over the cells, built on first use and cached."""
-        from interp.index import CellIndex
-
         return CellIndex(self)
 
     def locate(self, query: object) -> Location:
@@ -547,11 +381,7 @@ class Mesh:
         >>> loc.bary[0].tolist()
         [0.5, 0.25, 0.25]
         """
-        from interp.index import locate
-        from interp.parallel import is_dask
-        from interp.parallel import locate as locate_lazily
-
-        return locate_lazily(self, query) if is_dask(query) else locate(self, query)
+        return parallel.locate(self, query) if is_dask(query) else locate(self, query)
 
 
 def _infer_kind(k: int, g: int, cell_type: str | None) -> tuple[int, int]:

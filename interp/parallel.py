@@ -14,57 +14,36 @@ only when one of these functions runs.
 
 from __future__ import annotations
 
+import dataclasses
 import os
-import shutil
-import sys
 import uuid
 import weakref
 from collections.abc import Callable, Iterator, Mapping
 from contextlib import ExitStack, contextmanager
-from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from interp._arrays import as_points, is_dask
+from interp._geometry import grid_nodes
 from interp.errors import InterpError
-from interp.field import Field
-from interp.grid import Grid, as_fields
-from interp.index import Location
-from interp.mesh import Mesh, as_points
 
 if TYPE_CHECKING:
     import dask.array
     from dask.delayed import Delayed
-
-#: name stored in a Zarr store's attributes to mark a grid written by :func:`save_zarr`.
-ZARR_MARK = "interp.grid"
-#: version of the Zarr grid layout described in :func:`save_zarr`.
-ZARR_VERSION = 1
 
 # a stable graph key per shipped object, so that one object used twice in a
 # computation is still sent once
 _KEYS: weakref.WeakKeyDictionary[object, str] = weakref.WeakKeyDictionary()
 
 
-def is_dask(obj: object) -> bool:
-    """True when ``obj`` is a dask array; never imports dask.
-
-    Examples
-    --------
-    >>> import dask.array as da
-    >>> is_dask(np.zeros(3)), is_dask(da.zeros(3))
-    (False, True)
-    """
-    array = sys.modules.get("dask.array")
-    return array is not None and isinstance(obj, array.Array)
-
-
-def _ship(*objs: Field | Mesh) -> Delayed:
-    """One graph key holding ``objs`` (a tuple), their spatial indexes built."""
+def _ship(*objs: Any) -> Delayed:
+    """One graph key holding ``objs`` (a tuple of fields or meshes), their spatial
+    indexes built."""
     import dask
 
     for obj in objs:
-        _ = (obj.mesh if isinstance(obj, Field) else obj).index
+        _ = getattr(obj, "mesh", obj).index
     names = [_KEYS.setdefault(obj, uuid.uuid4().hex) for obj in objs]
     return dask.delayed(objs, name="interp-shipped-" + dask.base.tokenize(*names), traverse=False)
 
@@ -86,13 +65,13 @@ def _dask_points(points: object, gdim: int) -> dask.array.Array:
     return points.astype(np.float64).rechunk({1: -1})
 
 
-def _evaluate_block(points: np.ndarray, *, shipped: tuple[Field], what: str, outside: float):
+def _evaluate_block(points: np.ndarray, *, shipped: tuple[Any], what: str, outside: float):
     (field,) = shipped
     return field(points, outside) if what == "value" else field.gradient(points)
 
 
 def evaluate(
-    field: Field, points: dask.array.Array, *, what: str = "value", outside: float = np.nan
+    field: Any, points: dask.array.Array, *, what: str = "value", outside: float = np.nan
 ) -> dask.array.Array:
     """Evaluate a field, or its gradient, at a dask array of query points, lazily.
 
@@ -127,7 +106,7 @@ def evaluate(
     """
     import dask.array as da
 
-    if not isinstance(field, Field):
+    if not _is(field, "Field"):
         raise InterpError(f"evaluate needs an interp.Field, not {type(field).__name__}")
     if what not in ("value", "gradient"):
         raise InterpError(f"what must be 'value' or 'gradient'; got {what!r}")
@@ -145,13 +124,13 @@ def evaluate(
     )
 
 
-def _locate_block(points: np.ndarray, *, shipped: tuple[Mesh]) -> tuple[np.ndarray, np.ndarray]:
+def _locate_block(points: np.ndarray, *, shipped: tuple[Any]) -> tuple[np.ndarray, np.ndarray]:
     (mesh,) = shipped
     loc = mesh.locate(points)
     return loc.cells, loc.bary
 
 
-def locate(mesh: Mesh, points: dask.array.Array) -> Location:
+def locate(mesh: Any, points: dask.array.Array) -> Any:
     """Locate a dask array of query points in a mesh, lazily.
 
     Returns
@@ -173,7 +152,7 @@ def locate(mesh: Mesh, points: dask.array.Array) -> Location:
     """
     import dask.array as da
 
-    if not isinstance(mesh, Mesh):
+    if not _is(mesh, "Mesh"):
         raise InterpError(f"locate needs an interp.Mesh, not {type(mesh).__name__}")
     pts = _dask_points(points, mesh.gdim)
     shipped = _ship(mesh)
@@ -185,23 +164,32 @@ def locate(mesh: Mesh, points: dask.array.Array) -> Location:
         output_sizes={"k": mesh.dim + 1},
         shipped=shipped,
     )
-    return Location(cells, bary)
+    # the mesh's own Location type (this module imports no interp class)
+    return dataclasses.replace(mesh.locate(np.empty((0, mesh.gdim))), cells=cells, bary=bary)
 
 
-def _grid_block(*coords: np.ndarray, shipped: tuple[Field, ...]):
+def _is(obj: object, name: str) -> bool:
+    """Whether ``obj`` is an instance of the interp class ``name`` (by its class
+    path, as this module imports no interp class)."""
+    return any(
+        f"{c.__module__}.{c.__name__}" == f"interp.{name.lower()}.{name}" for c in type(obj).__mro__
+    )
+
+
+def _grid_block(*coords: np.ndarray, shipped: tuple[Any, ...]):
     """Evaluate fields at the nodes of one block; ``coords`` broadcast to the block.
 
     Returns one array per field, or the array itself for a single field.
     """
     shape = np.broadcast_shapes(*(c.shape for c in coords))
-    nodes = Grid(tuple(c.ravel() for c in coords), {}).points()
+    nodes = grid_nodes(tuple(c.ravel() for c in coords))
     loc = shipped[0].mesh.index.locate(nodes)
     out = tuple(f.evaluate(loc).reshape(shape + f.values.shape[1:]) for f in shipped)
     return out if len(out) > 1 else out[0]
 
 
 def grid(
-    fields: Mapping[str, Field], axes: tuple[np.ndarray, ...], chunks: object
+    fields: Mapping[str, Any], axes: tuple[np.ndarray, ...], chunks: object
 ) -> dict[str, dask.array.Array]:
     """Lazy dask arrays of fields on the regular grid of nodes ``axes``.
 
@@ -212,7 +200,7 @@ def grid(
     Parameters
     ----------
     fields : dict of str to Field
-        Fields on one mesh.
+        Fields on one mesh, named (as :func:`interp.to_grid` names them).
     axes : tuple of ndarray
         Node coordinates along x, y(, z), one axis per mesh coordinate.
     chunks : int, tuple or str
@@ -237,7 +225,7 @@ def grid(
     """
     import dask.array as da
 
-    named = as_fields(fields)
+    named = dict(fields)
     gdim = next(iter(named.values())).mesh.gdim
     axes = tuple(np.asarray(a, dtype=np.float64) for a in axes)
     if len(axes) != gdim or any(a.ndim != 1 or a.size == 0 for a in axes):
@@ -268,153 +256,14 @@ def grid(
     return dict(zip(named, result if len(named) > 1 else (result,), strict=True))
 
 
-def _zarr_names(grid: Grid) -> list[str]:
-    """Axis array names, after checking the field names can sit beside them in a store."""
-    axes = list("xyz"[: len(grid.axes)])
-    for name in grid.fields:
-        if name in axes or not name or "/" in name or name.startswith("__") or not name.strip("."):
-            raise InterpError(
-                f"field name {name!r} cannot be stored in a Zarr grid: names must differ from "
-                f"the axes {axes}, be non-empty, hold no '/', not be only dots nor start with "
-                "'__'; rename the field"
-            )
-    return axes
-
-
-def save_zarr(grid: Grid, path: str | Path) -> Path:
-    """Write a grid to a Zarr store, block by block, atomically.
-
-    Fields that are dask arrays are computed and written one block at a time
-    (all fields of a block together), so the grid is never held in memory
-    whole.  The store is written in a temporary directory beside ``path`` and
-    then moved in place; an existing ``path`` is replaced.  If writing fails,
-    ``path`` is left as it was and the temporary directory is removed (blocks
-    that other workers were still writing at that moment can leave part of it
-    behind, as a hidden ``.NAME.*.tmp`` directory beside ``path``).
-
-    Format (Zarr group, layout version 1):
-
-    - arrays ``x``, ``y`` (``z``): the node coordinates along each axis, float64;
-    - one array per field, float64, named after the field, of shape
-      ``(len(x), len(y)[, len(z)])`` indexed ``[i, j(, k)]`` ("ij"), with a
-      trailing axis for the components of a multi-component field, NaN at
-      nodes outside the mesh; chunked like the dask array (or as zarr
-      chooses for numpy);
-    - group attributes: ``"interp": "interp.grid"``, ``"version": 1``,
-      ``"axes"`` (the axis array names), ``"fields"`` (field names in order),
-      ``"spacing"`` (node spacing per axis, 0 for a single node) and
-      ``"units"`` (field name to units, for fields that have them).
-
-    Parameters
-    ----------
-    grid : Grid
-        Fields as dask or numpy arrays.
-    path : str or Path
-        The store directory, conventionally ending in ``.zarr``.
-
-    Returns
-    -------
-    Path
-        ``path``.
-
-    Examples
-    --------
-    >>> import tempfile, zarr
-    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))}, {"z": "m"})
-    >>> with tempfile.TemporaryDirectory() as d:
-    ...     out = save_zarr(g, Path(d) / "g.zarr")
-    ...     dict(zarr.open_group(out, mode="r").attrs)["units"]
-    {'z': 'm'}
-    """
-    import dask
-    import dask.array as da
-    import zarr
-
-    path = Path(path)
-    names = _zarr_names(grid)
-    if not path.parent.is_dir():
-        raise InterpError(f"cannot write {path}: the folder {path.parent} does not exist")
-    tmp = path.with_name(f".{path.name}.{uuid.uuid4().hex}.tmp")
-    try:
-        writes = [
-            da.to_zarr(da.from_array(a), str(tmp), component=n, compute=False)
-            for n, a in zip(names, grid.axes, strict=True)
-        ]
-        for name, values in grid.fields.items():
-            arr = values if is_dask(values) else da.from_array(np.asarray(values))
-            if any(len(set(c[:-1])) > 1 or c[-1] > c[0] for c in arr.chunks):
-                arr = arr.rechunk(arr.chunksize)  # zarr needs equal chunks but the last
-            writes.append(da.to_zarr(arr, str(tmp), component=name, compute=False))
-        dask.compute(*writes)
-        zarr.open_group(str(tmp), mode="r+").attrs.update(
-            {
-                "interp": ZARR_MARK,
-                "version": ZARR_VERSION,
-                "axes": names,
-                "fields": list(grid.fields),
-                "spacing": list(grid.spacing),
-                "units": dict(grid.units),
-            }
-        )
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    _move_into_place(tmp, path)
-    return path
-
-
-def _move_into_place(tmp: Path, path: Path) -> None:
-    """Rename directory ``tmp`` to ``path``, setting an existing ``path`` aside first."""
-    old = None
-    if path.exists() or path.is_symlink():
-        old = path.with_name(f".{path.name}.{uuid.uuid4().hex}.old")
-        os.replace(path, old)
-    os.replace(tmp, path)
-    if old is not None:
-        if old.is_dir() and not old.is_symlink():
-            shutil.rmtree(old)
-        else:
-            old.unlink()
-
-
-def open_zarr(path: str | Path) -> Grid:
-    """Open a grid written by :func:`save_zarr`; its fields are lazy dask arrays.
-
-    Examples
-    --------
-    >>> import tempfile
-    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.arange(6.0).reshape(3, 2)})
-    >>> with tempfile.TemporaryDirectory() as d:
-    ...     back = open_zarr(save_zarr(g, Path(d) / "g.zarr"))
-    ...     back.shape, back.fields["z"][2].compute().tolist()
-    ((3, 2), [4.0, 5.0])
-    """
-    import dask.array as da
-    import zarr
-
-    try:
-        root = zarr.open_group(str(path), mode="r")
-    except (FileNotFoundError, zarr.errors.GroupNotFoundError) as exc:
-        raise InterpError(f"{path}: no Zarr grid there ({exc})") from None
-    attrs = dict(root.attrs)
-    if attrs.get("interp") != ZARR_MARK or attrs.get("version") != ZARR_VERSION:
-        raise InterpError(
-            f"{path}: not a grid written by interp (layout version {ZARR_VERSION}); "
-            "its attributes lack the 'interp' mark"
-        )
-    axes = tuple(np.asarray(root[n][:], dtype=np.float64) for n in attrs["axes"])
-    fields = {n: da.from_zarr(str(path), component=n) for n in attrs["fields"]}
-    return Grid(axes, fields, dict(attrs["units"]))
-
-
-def _evaluate_piece(points: np.ndarray, field: Field) -> np.ndarray:
+def _evaluate_piece(points: np.ndarray, field: Any) -> np.ndarray:
     return field(points)
 
 
 @contextmanager
 def evaluator(
     workers: int | None = None, scheduler: str | None = None
-) -> Iterator[Callable[[Field, np.ndarray], np.ndarray]]:
+) -> Iterator[Callable[[Any, np.ndarray], np.ndarray]]:
     """Spread evaluations of in-memory point chunks over worker processes.
 
     Starts a local cluster of ``workers`` single-threaded processes listening
@@ -469,9 +318,9 @@ def evaluator(
                     f"cannot reach the dask scheduler at {scheduler!r} ({exc}); check the "
                     "address, or use local workers instead"
                 ) from None
-        shipped: dict[int, tuple[Field, object]] = {}
+        shipped: dict[int, tuple[Any, object]] = {}
 
-        def evaluate(field: Field, points: np.ndarray) -> np.ndarray:
+        def evaluate(field: Any, points: np.ndarray) -> np.ndarray:
             pts = as_points(points, "query points", gdim=field.mesh.gdim)
             if id(field) not in shipped:
                 _ = field.mesh.index

@@ -15,13 +15,14 @@ import numpy as np
 from scipy.sparse import coo_matrix
 from scipy.sparse.linalg import spsolve
 
+from interp._geometry import barycentric, simplex_geometry
+from interp._overlay import overlay_cells
+from interp._quadrature import quadrature
 from interp.basis import shape
 from interp.clip import evaluate_at
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import Mesh, barycentric, simplex_geometry
-from interp.overlay import overlay_cells
-from interp.quadrature import quadrature
+from interp.mesh import Mesh
 
 
 def project(field: Field, target: Mesh) -> Field:

@@ -20,13 +20,11 @@ from functools import cached_property
 
 import numpy as np
 
+from interp._arrays import as_points
+from interp._geometry import ZERO_AREA
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import as_points
 from interp.polygon import EdgeGrid, as_ring, contains, first_crossing, ring_area, ring_edges
-
-#: polygon area, relative to its bounding box's squared size, below which it counts as empty.
-ZERO_AREA = 1e-12
 
 
 class Region:

@@ -8,11 +8,12 @@ from pathlib import Path
 
 import numpy as np
 
+from interp._arrays import as_points
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields, evaluate_fields, field_columns
-from interp.io import write_table
-from interp.mesh import Mesh, as_points
+from interp.grid import as_fields, evaluate_fields
+from interp.io import field_columns, write_table
+from interp.mesh import Mesh
 
 
 @dataclass(frozen=True)

@@ -15,25 +15,22 @@ from pathlib import Path
 
 import numpy as np
 
+from interp._fit import fit
 from interp.errors import InterpError
 from interp.field import Field
-from interp.fit import fit
-from interp.grid import component_names
-from interp.io import TableWriter, iter_point_chunks, read, read_points
-
-#: file extensions read as point files; anything else goes to meshio.
-POINT_SUFFIXES = {".csv", ".txt", ".xyz", ".tsv", ".dat", ".pts"}
+from interp.io import TableWriter, component_names, iter_point_chunks, point_reader, read
 
 
 def is_point_file(path: str | Path) -> bool:
-    """True when ``path`` is read as a point file rather than a mesh file.
+    """True when ``path`` is read as a point file rather than a mesh file (its
+    suffix is in :data:`interp.io.POINT_READERS`; anything else goes to meshio).
 
     Examples
     --------
     >>> is_point_file("survey.csv"), is_point_file("part.vtu")
     (True, False)
     """
-    return Path(path).suffix.lower() in POINT_SUFFIXES
+    return point_reader(path) is not None
 
 
 def load(
@@ -70,8 +67,9 @@ def load(
     >>> float(f([[0.5, 0.0]])[0])
     1.5
     """
-    if is_point_file(path):
-        points, values = read_points(path, coords=tuple(coords))
+    reader = point_reader(path)
+    if reader is not None:
+        points, values = reader(path, coords=tuple(coords))
         if not values:
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"

@@ -23,6 +23,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from interp._integrate import integrate_pieces
+from interp._overlay import overlay_cells
 from interp.clip import (
     Pieces,
     check_region,
@@ -34,8 +36,6 @@ from interp.clip import (
 )
 from interp.errors import InterpError
 from interp.field import Field
-from interp.integrate import integrate_pieces
-from interp.overlay import overlay_cells
 from interp.regions import Region
 
 

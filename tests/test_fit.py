@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from interp import Field, InterpError, fit, triangulate
-from interp.fit import midpoint
+from interp._fit import midpoint
 
 
 def quadratic(rng, d):

@@ -6,7 +6,7 @@ import pytest
 import shapely
 
 from interp import InterpError, Mesh, Overlay, overlay, triangulate
-from interp.overlay import overlay_cells
+from interp._overlay import overlay_cells
 
 
 @pytest.fixture(scope="module")

@@ -18,6 +18,7 @@ import zarr
 from conftest import cube_mesh, square_mesh
 from distributed import Client, LocalCluster
 
+import interp
 from interp import Field, InterpError, Mesh, parallel
 from interp.grid import Grid, to_grid
 
@@ -244,8 +245,8 @@ def test_zarr_round_trip(tmp_path):
     fields = _fields()
     ref = to_grid(fields, spacing=0.02)
     lazy = Grid(ref.axes, parallel.grid(fields, ref.axes, chunks=(16, 20)), ref.units)
-    path = parallel.save_zarr(lazy, tmp_path / "survey.zarr")
-    back = parallel.open_zarr(path)
+    path = interp.io.save_zarr(lazy, tmp_path / "survey.zarr")
+    back = interp.open_zarr(path)
     assert parallel.is_dask(back.fields["velocity"])
     assert back.fields["velocity"].chunks[0][0] == 16
     assert back.names == ["depth", "velocity"] and back.units == {"depth": "m", "velocity": "m/s"}
@@ -261,20 +262,20 @@ def test_zarr_round_trip(tmp_path):
 def test_zarr_from_numpy_replaces_existing_store(tmp_path):
     path = tmp_path / "g.zarr"
     first = Grid((np.arange(4.0), np.arange(3.0)), {"a": np.ones((4, 3))})
-    parallel.save_zarr(first, path)
+    interp.io.save_zarr(first, path)
     values = np.arange(24.0).reshape(4, 3, 2)
     values[1, 1] = np.nan
     second = Grid((np.arange(4.0) * 2, np.arange(3.0)), {"b": values})
-    parallel.save_zarr(second, path)
+    interp.io.save_zarr(second, path)
     assert [p.name for p in tmp_path.iterdir()] == ["g.zarr"]
-    back = parallel.open_zarr(path)
+    back = interp.open_zarr(path)
     assert back.names == ["b"] and back.spacing == (2.0, 1.0)
     np.testing.assert_array_equal(back.values.compute(), values)
 
 
 def test_zarr_failed_write_leaves_target_untouched(tmp_path):
     path = tmp_path / "g.zarr"
-    parallel.save_zarr(Grid((np.arange(4.0),), {"a": np.ones(4)}), path)
+    interp.io.save_zarr(Grid((np.arange(4.0),), {"a": np.ones(4)}), path)
 
     def fail_on_last(block, block_info=None):
         if block_info[0]["chunk-location"] == (1,):
@@ -285,23 +286,23 @@ def test_zarr_failed_write_leaves_target_untouched(tmp_path):
     # one block at a time, so that no other block is being written when the failure
     # is raised and the cleanup can be checked exactly
     with pytest.raises(RuntimeError, match="disk full"), dask.config.set(scheduler="sync"):
-        parallel.save_zarr(Grid((np.arange(4.0),), {"b": broken}), path)
+        interp.io.save_zarr(Grid((np.arange(4.0),), {"b": broken}), path)
     assert [p.name for p in tmp_path.iterdir()] == ["g.zarr"]
-    assert parallel.open_zarr(path).names == ["a"]
+    assert interp.open_zarr(path).names == ["a"]
 
 
 def test_zarr_bad_names_and_stores(tmp_path):
     for name in ("x", "a/b", "__meta", "..", ""):
         with pytest.raises(InterpError, match="cannot be stored"):
-            parallel.save_zarr(Grid((np.arange(2.0),), {name: np.zeros(2)}), tmp_path / "g.zarr")
+            interp.io.save_zarr(Grid((np.arange(2.0),), {name: np.zeros(2)}), tmp_path / "g.zarr")
     with pytest.raises(InterpError, match="does not exist"):
-        parallel.save_zarr(Grid((np.arange(2.0),), {"a": np.zeros(2)}), tmp_path / "no" / "g.zarr")
+        interp.io.save_zarr(Grid((np.arange(2.0),), {"a": np.zeros(2)}), tmp_path / "no" / "g.zarr")
     assert list(tmp_path.iterdir()) == []
     with pytest.raises(InterpError, match="no Zarr grid"):
-        parallel.open_zarr(tmp_path / "missing.zarr")
+        interp.open_zarr(tmp_path / "missing.zarr")
     zarr.open_group(str(tmp_path / "other.zarr"), mode="w").attrs["title"] = "something else"
     with pytest.raises(InterpError, match="not a grid written by interp"):
-        parallel.open_zarr(tmp_path / "other.zarr")
+        interp.open_zarr(tmp_path / "other.zarr")
 
 
 def test_evaluator_on_a_running_scheduler(client):

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from interp import InterpError, quadrature
-from interp.quadrature import CELLS
+from interp._quadrature import CELLS
 
 #: highest degree checked for each cell kind, and extra degrees from the general construction
 TABULATED = {"line": 10, "triangle": 8, "tetra": 6}

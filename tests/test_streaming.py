@@ -33,7 +33,7 @@ def test_public_api_dispatches_dask_arrays(field):
 
 
 def test_chunked_grid_saves_to_zarr(field, tmp_path):
-    from interp.parallel import open_zarr
+    from interp import open_zarr
 
     g = interp.to_grid(field, spacing=0.01, chunks=(40, 30))
     ref = interp.to_grid(field, spacing=0.01)

@@ -11,7 +11,7 @@ from hypothesis.extra import numpy as hnp
 from scipy.spatial import ConvexHull, Delaunay
 
 from interp import InterpError, triangulate
-from interp.triangulate import _drop_flat, merge_duplicates
+from interp._triangulate import _drop_flat, merge_duplicates
 
 
 @pytest.mark.parametrize("d", [2, 3])

@@ -1,37 +1,25 @@
-"""Files in and out: meshes through meshio, point tables, polygons, atomic writes.
-
-Mesh files in any format meshio reads become a :class:`~interp.mesh.Mesh`
-and its point data; point files are delimited text with a header row (comma,
-semicolon, tab or whitespace), read whole with :func:`read_points` or in
-chunks with :func:`iter_point_chunks`; :class:`TableWriter` and
-:func:`write_table` write such tables back.  Every file is written through
-:func:`atomic_path`: to a temporary file in the target's folder that replaces
-the target only once it is complete, so a failed write never leaves a
-half-written file and never damages an existing one.
+"""Point tables: delimited text with a header row (comma, semicolon, tab or
+whitespace), read whole with :func:`read_points` or in chunks with
+:func:`iter_point_chunks`, and written back by :class:`TableWriter` and
+:func:`write_table`, atomically.
 """
 
 from __future__ import annotations
 
 import csv
 import os
-import secrets
 import warnings
-from collections.abc import Iterator, Mapping, Sequence
-from contextlib import ExitStack, contextmanager
+from collections.abc import Iterator, Sequence
+from contextlib import ExitStack
 from dataclasses import dataclass
 from itertools import islice, repeat
 from pathlib import Path
 from typing import IO
 
-import meshio
 import numpy as np
 
-# meshio.read prints and exits the process when no reader fits; call the readers directly
-from meshio._helpers import reader_map
-
 from interp.errors import InterpError
-from interp.mesh import CELL_TYPES, Mesh
-from interp.polygon import as_ring
+from interp.io._atomic import atomic_path
 
 #: delimiters of point files, as written; " " stands for any run of whitespace.
 DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab", " ": "whitespace"}
@@ -41,205 +29,6 @@ CHUNK_ROWS = 500_000
 WRITE_ROWS = 1 << 18
 #: text encoding of point files; undecodable bytes pass through unchanged.
 ENCODING = {"encoding": "utf-8", "errors": "surrogateescape"}
-
-
-@contextmanager
-def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
-    """Yield a temporary path beside ``path`` that replaces it when the block succeeds.
-
-    The temporary file is created empty in the same folder with the same
-    suffix (so writers that go by the suffix pick the right format).  When
-    the ``with`` block ends normally it is moved onto ``path`` with
-    :func:`os.replace`, which is atomic; when the block raises it is deleted
-    and ``path`` is left as it was.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> target = pathlib.Path(tempfile.mkdtemp()) / "note.txt"
-    >>> with atomic_path(target) as tmp:
-    ...     _ = tmp.write_text("done")
-    >>> target.read_text(), sorted(p.name for p in target.parent.iterdir())
-    ('done', ['note.txt'])
-    """
-    path = Path(path)
-    tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
-    try:
-        os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
-    except OSError as exc:
-        raise InterpError(
-            f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
-            "check that it exists and is writable"
-        ) from None
-    try:
-        yield tmp
-        os.replace(tmp, path)
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
-
-
-def read(path: str | os.PathLike) -> tuple[Mesh, dict[str, np.ndarray]]:
-    """Read a mesh file (any format meshio reads) and its point data.
-
-    The cells of the highest topological dimension in the file are taken
-    (several blocks of the same kind are merged); lower-dimensional blocks,
-    such as boundary lines or vertices, are ignored.  Those cells must be
-    simplices: lines, triangles or tetrahedra, linear or quadratic.  All
-    points of the file are kept, so the point data line up with the nodes.
-
-    Many formats store 3D points even for planar meshes: a triangle mesh
-    whose z coordinates are all exactly 0 becomes a 2D mesh (gdim 2); any
-    other mesh keeps the coordinates as stored.
-
-    Returns
-    -------
-    mesh : Mesh
-    fields : dict of str to ndarray
-        The point data, (n_nodes,) for scalars and (n_nodes, c) for vectors
-        (higher-rank arrays are flattened to c columns), as float64.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "plate.vtu"
-    >>> mesh = Mesh([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]], [[0, 1, 2]])
-    >>> _ = write(path, mesh, {"t": [1.0, 2.0, 3.0]})
-    >>> back, fields = read(path)
-    >>> back.gdim, back.cell_type, fields["t"].tolist()
-    (2, 'triangle', [1.0, 2.0, 3.0])
-    """
-    path = Path(path)
-    if not path.is_file():
-        raise InterpError(f"{path}: no such file; check the name and folder")
-    reasons = []
-    for file_format in _formats(path):
-        try:
-            raw = reader_map[file_format](str(path))
-            break
-        except Exception as exc:  # meshio's readers raise many kinds of errors on bad input
-            reasons.append(f"as {file_format}: {type(exc).__name__} {exc}".rstrip())
-    else:
-        raise InterpError(
-            f"{path}: cannot read it as a mesh file ({'; '.join(reasons)}); check that the "
-            "file is complete and in a format meshio reads (.vtu, .vtk, .msh, .xdmf, ...)"
-        )
-    cell_type, cells = _top_cells(path, raw.cells)
-    points = np.asarray(raw.points, dtype=np.float64)
-    if points.shape[1] == 3 and cell_type in ("triangle", "triangle6") and not points[:, 2].any():
-        points = points[:, :2]
-    try:
-        mesh = Mesh(points, cells, cell_type=cell_type)
-    except InterpError as exc:
-        raise InterpError(f"{path}: {exc}") from None
-    fields = {}
-    for name, data in raw.point_data.items():
-        arr = np.asarray(data)
-        # "gmsh:..." arrays are meshio's bookkeeping of gmsh entity tags, not data
-        if name.startswith("gmsh:") or not np.issubdtype(arr.dtype, np.number):
-            continue
-        arr = arr.astype(np.float64).reshape(len(arr), -1)
-        fields[name] = arr[:, 0] if arr.shape[1] == 1 else arr
-    return mesh, fields
-
-
-def _formats(path: Path) -> list[str]:
-    """meshio format names for the suffixes of ``path``, gmsh first for ``.msh``."""
-    ext, found = "", []
-    for suffix in reversed(path.suffixes):
-        ext = (suffix + ext).lower()
-        found += meshio.extension_to_filetypes.get(ext, [])
-    if not found:
-        raise InterpError(
-            f"{path}: meshio has no mesh format for the suffix {path.suffix!r}; "
-            "use .vtu, .vtk, .msh or .xdmf, for example"
-        )
-    # ".msh" is shared by gmsh and ANSYS; gmsh files are by far the more common
-    return sorted(found, key=lambda name: name != "gmsh")
-
-
-def _top_cells(path: Path, blocks: list[meshio.CellBlock]) -> tuple[str, np.ndarray]:
-    """The kind and merged connectivity of the highest-dimensional cell blocks."""
-    top = max((b.dim for b in blocks), default=-1)
-    counts: dict[str, int] = {}
-    for b in blocks:
-        if b.dim == top:
-            counts[b.type] = counts.get(b.type, 0) + len(b.data)
-    found = ", ".join(f"{kind} ({n} cell{'s' * (n != 1)})" for kind, n in counts.items())
-    if top < 1:
-        raise InterpError(
-            f"{path}: no line, triangle or tetrahedron cells in the file"
-            + (f" (found {found})" if found else "")
-        )
-    if not set(counts) <= set(CELL_TYPES.values()):
-        raise InterpError(
-            f"{path}: only simplices (lines, triangles, tetrahedra, linear or quadratic) are "
-            f"supported; found {found}; export the mesh as simplices or split its cells"
-        )
-    if len(counts) > 1:
-        raise InterpError(
-            f"{path}: the {top}D cells mix {found}; a mesh needs one cell kind: "
-            "export it with a single element order"
-        )
-    (kind,) = counts
-    return kind, np.concatenate([b.data for b in blocks if b.dim == top]).astype(np.int64)
-
-
-def write(
-    path: str | os.PathLike,
-    mesh: Mesh,
-    fields: Mapping[str, object] | None = None,
-) -> Path:
-    """Write a mesh and node fields to any format meshio writes, atomically.
-
-    Points are stored with three coordinates (2D and 1D meshes get zero
-    columns), as most formats expect; :func:`read` turns a planar triangle
-    mesh back into 2D.
-
-    Parameters
-    ----------
-    path : path-like
-        Output file; its suffix chooses the format (``.vtu``, ``.vtk``,
-        ``.msh``, ``.xdmf``, ...).
-    mesh : Mesh
-    fields : dict of str to array_like, optional
-        Node values, (n_nodes,) or (n_nodes, c) each, stored as point data.
-
-    Returns
-    -------
-    Path
-        ``path``.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "bar.vtk"
-    >>> mesh = Mesh([[0.0, 0.0], [2.0, 0.0], [0.0, 1.0]], [[0, 1, 2]])
-    >>> write(path, mesh, {"u": [[0.0, 1.0], [1.0, 1.0], [0.0, 0.0]]}).name
-    'bar.vtk'
-    """
-    path = Path(path)
-    file_format = _formats(path)[0]
-    point_data = {}
-    for name, values in (fields or {}).items():
-        arr = np.asarray(values, dtype=np.float64)
-        if arr.ndim not in (1, 2) or arr.shape[0] != mesh.n_nodes:
-            raise InterpError(
-                f"field {name!r} has shape {arr.shape}; pass ({mesh.n_nodes},) or "
-                f"({mesh.n_nodes}, c) values, one per mesh node"
-            )
-        point_data[str(name)] = arr
-    points = np.zeros((mesh.n_nodes, 3))
-    points[:, : mesh.gdim] = mesh.points
-    out = meshio.Mesh(points, [(mesh.cell_type, np.asarray(mesh.cells))], point_data=point_data)
-    with atomic_path(path) as tmp:
-        try:
-            meshio.write(tmp, out, file_format=file_format)
-        except Exception as exc:  # meshio's writers raise many kinds of errors
-            raise InterpError(
-                f"cannot write {path} as {file_format}: {type(exc).__name__}: {exc}"
-            ) from exc
-    return path
 
 
 @dataclass(frozen=True)
@@ -375,7 +164,7 @@ def read_points(
     >>> points.tolist(), values["z"].tolist()
     ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
     """
-    points, values, _, text_columns = _read_all(path, coords)
+    points, values, _, text_columns = read_table(path, coords)
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
         warnings.warn(
@@ -385,7 +174,7 @@ def read_points(
     return points, values
 
 
-def _read_all(
+def read_table(
     path: str | os.PathLike, coords: Sequence[str]
 ) -> tuple[np.ndarray, dict[str, np.ndarray], np.ndarray, dict[str, int]]:
     """The whole point file: points, values, line numbers and text columns."""
@@ -716,60 +505,3 @@ def write_table(
         for start in range(0, len(table), WRITE_ROWS):
             out.write(None, table[start : start + WRITE_ROWS])
     return Path(path)
-
-
-def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
-    """Read a polygon file: columns x, y with one vertex per row, in order.
-
-    An optional ``ring`` column numbers the rings: 0 for the exterior,
-    1, 2, ... for holes; the rows of a ring must be consecutive.  Without it
-    the file holds the exterior only.  A closing vertex equal to the first
-    is dropped.
-
-    Returns
-    -------
-    list of ndarray (p, 2)
-        The exterior ring first, then the holes in order of their numbers,
-        each validated by :func:`interp.polygon.as_ring`.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "site.csv"
-    >>> _ = path.write_text("x,y,ring\\n0,0,0\\n4,0,0\\n0,4,0\\n1,1,1\\n2,1,1\\n1,2,1\\n")
-    >>> [r.shape for r in read_polygon(path)]
-    [(3, 2), (3, 2)]
-    """
-    points, values, numbers, text_columns = _read_all(path, ("x", "y"))
-    key = next((n for n in [*values, *text_columns] if n.lower() == "ring"), None)
-    if key is None:
-        return [as_ring(points, name=f"{path} (lines {numbers[0]}-{numbers[-1]})")]
-    if key in text_columns:
-        raise InterpError(
-            f"{path}, line {text_columns[key]}: the ring column must hold whole numbers "
-            "(0 for the exterior, 1, 2, ... for holes)"
-        )
-    ring = values[key]
-    bad = np.flatnonzero(~(ring >= 0) | (ring != np.round(ring)))
-    if bad.size:
-        raise InterpError(
-            f"{path}, line {numbers[bad[0]]}: the ring number must be a whole number >= 0 "
-            "(0 for the exterior, 1, 2, ... for holes)"
-        )
-    starts = np.flatnonzero(np.r_[True, ring[1:] != ring[:-1]])
-    ends = np.r_[starts[1:], len(ring)]
-    ids = ring[starts].astype(np.int64)
-    seen: set[int] = set()
-    for s, r in zip(starts, ids, strict=True):
-        if r in seen:
-            raise InterpError(
-                f"{path}, line {numbers[s]}: ring {r} starts again after other rows; "
-                "keep the rows of each ring together, in order"
-            )
-        seen.add(r)
-    if 0 not in seen:
-        raise InterpError(f"{path}: no ring 0; number the exterior ring 0 and holes 1, 2, ...")
-    return [
-        as_ring(points[s:e], name=f"{path} ring {r} (lines {numbers[s]}-{numbers[e - 1]})")
-        for r, s, e in sorted(zip(ids.tolist(), starts, ends, strict=True))
-    ]

@@ -27,12 +27,13 @@ from collections.abc import Callable
 
 import numpy as np
 
+from interp._geometry import barycentric, simplex_geometry
+from interp._quadrature import CELLS, quadrature
 from interp.basis import n_basis
 from interp.clip import Pieces, clip, evaluate_at
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import Mesh, barycentric, simplex_geometry
-from interp.quadrature import CELLS, quadrature
+from interp.mesh import Mesh
 from interp.regions import Region
 
 #: array entries (points x basis functions) handled per block of pieces.

@@ -42,19 +42,13 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._arrays import as_points, positive
+from interp._fit import midpoint, neighbours, node_gradient, samples
+from interp._geometry import EMPTY, FLAT, TOLERANCE, longest_edge
+from interp._triangulate import triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
-from interp.fit import _node_gradient, midpoint, neighbours, samples
-from interp.mesh import Mesh, as_points
-from interp.triangulate import _longest_edge, _positive, triangulate
-
-#: how far outside a simplex, in barycentric units, a point still counts as inside.
-TOLERANCE = 1e-10
-#: a link vertex counts as inside a circumsphere when it is inside by more than
-#: this, relative to the lifted heights (coordinates scaled to the link's radius).
-EMPTY = 1e-12
-#: simplices of link vertices with |det| / (product of edge lengths) below this are skipped.
-FLAT = 1e-12
+from interp.mesh import Mesh
 
 
 def crossvalidate(
@@ -111,8 +105,8 @@ def crossvalidate(
     kept = np.ones(len(cells), dtype=bool)
     limit = np.inf
     if max_edge is not None:
-        limit = _positive(max_edge, "max_edge")
-        kept = _longest_edge(x, cells) <= limit
+        limit = positive(max_edge, "max_edge")
+        kept = longest_edge(x, cells) <= limit
         if not kept.any():
             raise InterpError(f"max_edge={max_edge} removes every cell; use a larger max_edge")
     used = np.bincount(cells[kept].ravel(), minlength=len(x)) > 0
@@ -290,7 +284,7 @@ def _leave_one_out(
             )
             for i in range(r):
                 stamp += 1
-                _node_gradient(
+                node_gradient(
                     tri[p, i],
                     x,
                     v,

@@ -19,11 +19,9 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
+from interp._geometry import OVERLAY_SLIVER, simplex_geometry
 from interp.errors import InterpError
-from interp.mesh import Mesh, simplex_geometry
-
-#: overlay triangles with area below this, relative to their size**2, are round-off slivers.
-SLIVER = 1e-10
+from interp.mesh import Mesh
 
 
 @dataclass(frozen=True, eq=False)
@@ -110,8 +108,9 @@ def overlay_cells(mesh_a: Mesh, mesh_b: Mesh) -> tuple[np.ndarray, np.ndarray]:
             what = f"{m.cell_type} cells in {m.gdim}D" if isinstance(m, Mesh) else "no mesh"
             raise InterpError(f"overlay needs two 2D triangle meshes; {name} has {what}")
     index = mesh_b.index
-    a = (mesh_a.points[mesh_a.corners] - index.center) / index.scale
-    b = (mesh_b.points[mesh_b.corners] - index.center) / index.scale
+    centre, scale = mesh_b.frame
+    a = (mesh_a.points[mesh_a.corners] - centre) / scale
+    b = (mesh_b.points[mesh_b.corners] - centre) / scale
     tri, parents = _intersect(
         np.ascontiguousarray(a),
         np.ascontiguousarray(b),
@@ -121,10 +120,10 @@ def overlay_cells(mesh_a: Mesh, mesh_b: Mesh) -> tuple[np.ndarray, np.ndarray]:
         index.start,
         index.members,
     )
-    tri = tri * index.scale + index.center
+    tri = tri * scale + centre
     if len(tri):
         area, size = simplex_geometry(tri)
-        keep = area > SLIVER * size**2
+        keep = area > OVERLAY_SLIVER * size**2
         tri, parents = tri[keep], parents[keep]
     return tri, parents
 

@@ -13,8 +13,10 @@ import warnings
 import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
+from interp._arrays import as_points, check_finite, positive
+from interp._geometry import box_frame, is_flat, longest_edge, simplex_geometry
 from interp.errors import InterpError
-from interp.mesh import Mesh, as_points, box_frame, check_finite, is_flat, simplex_geometry
+from interp.mesh import Mesh
 from interp.polygon import as_ring, contains
 
 
@@ -122,7 +124,7 @@ def triangulate(
     _report_unused(uniq, cells, inverse)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
-        keep &= _longest_edge(uniq, cells) <= _positive(max_edge, "max_edge")
+        keep &= longest_edge(uniq, cells) <= positive(max_edge, "max_edge")
     if boundary is not None:
         if d != 2:
             raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
@@ -134,16 +136,6 @@ def triangulate(
         )
     # Delaunay cells of checked points need no second check; their measures scale back
     return Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
-
-
-def _positive(value: object, name: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        v = np.nan
-    if not np.isfinite(v) or v <= 0:
-        raise InterpError(f"{name} must be a positive length; got {value!r}")
-    return v
 
 
 def _drop_flat(
@@ -234,9 +226,3 @@ def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
         msg = str(exc).splitlines()[0]
         raise InterpError(f"Delaunay triangulation failed: {msg}") from None
     return tri.simplices.astype(np.int64), len(tri.coplanar) == 0
-
-
-def _longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
-    k = cells.shape[1]
-    a, b = np.triu_indices(k, 1)
-    return np.linalg.norm(points[cells[:, a]] - points[cells[:, b]], axis=2).max(axis=1)

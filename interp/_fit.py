@@ -34,10 +34,11 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
+from interp._arrays import as_floats, as_points, check_finite
+from interp._triangulate import merge_duplicates, triangulate
 from interp.errors import InterpError
 from interp.field import Field
-from interp.mesh import Mesh, as_floats, as_points, check_finite
-from interp.triangulate import merge_duplicates, triangulate
+from interp.mesh import Mesh
 
 #: smallest ratio of the last to the first pivot of the column-scaled design
 #: matrix for which a quadratic fit is accepted (below it: the 2-ring, then linear).
@@ -482,3 +483,7 @@ def _reflect(w, ww, j, a, first):  # pragma: no cover
         s *= 2.0 / ww
         for r in range(j, a.shape[0]):
             a[r, k] -= s * w[r]
+
+
+#: the local gradient fit of one node, for the leave-one-out of :mod:`interp._validate`.
+node_gradient = _node_gradient

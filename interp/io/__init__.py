@@ -1,0 +1,88 @@
+"""Files in and out, one module per kind of file, formats looked up by suffix.
+
+- :mod:`interp.io._meshes`: mesh files through meshio (:func:`read`, :func:`write`);
+- :mod:`interp.io._tables`: point tables (:func:`read_points`,
+  :func:`iter_point_chunks`, :class:`TableWriter`, :func:`write_table`);
+- :mod:`interp.io._polygons`: polygon files (:func:`read_polygon`);
+- :mod:`interp.io._grids`: grid files by suffix (:data:`GRID_WRITERS`,
+  :data:`GRID_READERS`: ``.npz``, ``.csv``, ``.vti``, ``.zarr``);
+- :mod:`interp.io._atomic`: atomic writes (:func:`atomic_path`, :func:`move_into_place`).
+
+Point sources are looked up by suffix in :data:`POINT_READERS`: a new format
+of scattered points is one entry, ``reader(path, coords) -> (points, values)``.
+"""
+
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+
+from interp.io._atomic import atomic_path, move_into_place
+from interp.io._grids import (
+    GRID_READERS,
+    GRID_WRITERS,
+    ZARR_MARK,
+    ZARR_VERSION,
+    component_names,
+    field_columns,
+    read_grid,
+    read_zarr,
+    save_grid,
+    save_zarr,
+)
+from interp.io._meshes import read, write
+from interp.io._polygons import read_polygon
+from interp.io._tables import (
+    PointChunk,
+    TableWriter,
+    iter_point_chunks,
+    read_points,
+    read_table,
+    write_table,
+)
+
+#: readers of scattered-point files by suffix: ``reader(path, coords=...) -> (points, values)``.
+POINT_READERS: dict[str, Callable[..., tuple[np.ndarray, dict[str, np.ndarray]]]] = dict.fromkeys(
+    (".csv", ".txt", ".xyz", ".tsv", ".dat", ".pts"), read_points
+)
+
+
+def point_reader(
+    path: str | Path,
+) -> Callable[..., tuple[np.ndarray, dict[str, np.ndarray]]] | None:
+    """The reader :data:`POINT_READERS` has for the suffix of ``path``, or None
+    (a mesh file).
+
+    Examples
+    --------
+    >>> point_reader("survey.csv") is read_points, point_reader("part.vtu")
+    (True, None)
+    """
+    return POINT_READERS.get(Path(path).suffix.lower())
+
+
+__all__ = [
+    "GRID_READERS",
+    "GRID_WRITERS",
+    "POINT_READERS",
+    "ZARR_MARK",
+    "ZARR_VERSION",
+    "PointChunk",
+    "TableWriter",
+    "atomic_path",
+    "component_names",
+    "field_columns",
+    "iter_point_chunks",
+    "move_into_place",
+    "point_reader",
+    "read",
+    "read_grid",
+    "read_points",
+    "read_polygon",
+    "read_table",
+    "read_zarr",
+    "save_grid",
+    "save_zarr",
+    "write",
+    "write_table",
+]

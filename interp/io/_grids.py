@@ -1,0 +1,316 @@
+"""Grid files, looked up by suffix: writers and readers of regular grids.
+
+A grid format is one entry of :data:`GRID_WRITERS` (and of :data:`GRID_READERS`
+when it can be read back): a function of the grid and the target path.  The
+writers read a grid through the attributes of :class:`interp.Grid` (``axes``,
+``fields``, ``units``, ``shape``, ``spacing``, ``points()``), so this module
+sits below it.  ``.npz``, ``.csv`` and ``.vti`` are written through
+:func:`~interp.io.atomic_path`; ``.zarr`` is a directory written block by
+block and moved into place.
+"""
+
+from __future__ import annotations
+
+import shutil
+import uuid
+from collections.abc import Callable, Mapping
+from pathlib import Path
+from typing import Any, Protocol
+
+import numpy as np
+
+from interp._arrays import is_dask
+from interp.errors import InterpError
+from interp.io._atomic import atomic_path, move_into_place
+from interp.io._tables import write_table
+
+#: name stored in a Zarr store's attributes to mark a grid written by :func:`save_zarr`.
+ZARR_MARK = "interp.grid"
+#: version of the Zarr grid layout described in :func:`save_zarr`.
+ZARR_VERSION = 1
+
+#: what a grid reader returns: axes, fields and units.
+GridParts = tuple[tuple[np.ndarray, ...], dict[str, Any], dict[str, str]]
+
+
+class GridLike(Protocol):
+    """What the writers read of a grid (an :class:`interp.Grid`)."""
+
+    axes: tuple[np.ndarray, ...]
+    fields: dict[str, Any]
+    units: dict[str, str]
+
+    @property
+    def shape(self) -> tuple[int, ...]: ...
+
+    @property
+    def spacing(self) -> tuple[float, ...]: ...
+
+    def points(self) -> np.ndarray: ...
+
+
+def component_names(name: str, k: int) -> list[str]:
+    """Column names of a field with k components: the name, or name_0 .. name_{k-1}.
+
+    Examples
+    --------
+    >>> component_names("z", 1), component_names("u", 2)
+    (['z'], ['u_0', 'u_1'])
+    """
+    return [name] if k == 1 else [f"{name}_{c}" for c in range(k)]
+
+
+def field_columns(fields: Mapping[str, np.ndarray], n: int) -> tuple[list[str], np.ndarray]:
+    """Named fields of n values (+ components) as column names and an (n, k) table.
+
+    Examples
+    --------
+    >>> field_columns({"z": np.zeros(2), "u": np.ones((2, 2))}, 2)[0]
+    ['z', 'u_0', 'u_1']
+    """
+    flat = [v.reshape(n, -1) for v in fields.values()]
+    names = [
+        c for name, v in zip(fields, flat, strict=True) for c in component_names(name, v.shape[1])
+    ]
+    return names, np.hstack(flat)
+
+
+def save_grid(grid: GridLike, path: str | Path) -> Path:
+    """Write a grid in the format its suffix names (see :data:`GRID_WRITERS`).
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(2.0),), {"z": np.ones(2)})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     save_grid(g, Path(d) / "g.csv").read_text().splitlines()
+    ['x,z', '0,1', '1,1']
+    """
+    path = Path(path)
+    writer = GRID_WRITERS.get(path.suffix.lower())
+    if writer is None:
+        raise InterpError(f"cannot save a grid as {path.name!r}: use {', '.join(GRID_WRITERS)}")
+    return writer(grid, path)
+
+
+def read_grid(path: str | Path) -> GridParts:
+    """Axes, fields and units of a grid file, read by its suffix (see :data:`GRID_READERS`).
+
+    Examples
+    --------
+    >>> read_grid("g.npz")
+    Traceback (most recent call last):
+    ...
+    interp.errors.InterpError: cannot read a grid from 'g.npz': readable grid formats are .zarr
+    """
+    path = Path(path)
+    reader = GRID_READERS.get(path.suffix.lower())
+    if reader is None:
+        raise InterpError(
+            f"cannot read a grid from {path.name!r}: readable grid formats are "
+            f"{', '.join(GRID_READERS)}"
+        )
+    return reader(path)
+
+
+def _write_csv(grid: GridLike, path: Path) -> Path:
+    names, cols = field_columns(grid.fields, int(np.prod(grid.shape)))
+    return write_table(
+        path, list("xyz"[: len(grid.axes)]) + names, np.hstack([grid.points(), cols])
+    )
+
+
+def _atomically(write: Callable[[GridLike, Path], None]) -> Callable[[GridLike, Path], Path]:
+    """A writer of a single file, run through :func:`atomic_path`."""
+
+    def run(grid: GridLike, path: Path) -> Path:
+        with atomic_path(path) as tmp:
+            write(grid, tmp)
+        return path
+
+    return run
+
+
+def _write_npz(grid: GridLike, path: Path) -> None:
+    arrays = dict(zip("xyz", grid.axes, strict=False))
+    clash = set(arrays) & set(grid.fields)
+    if clash:
+        raise InterpError(f"field names {sorted(clash)} clash with the coordinate arrays in .npz")
+    with open(path, "wb") as fh:
+        np.savez_compressed(fh, **arrays, **grid.fields)
+
+
+def _write_vti(grid: GridLike, path: Path) -> None:
+    g = len(grid.axes)
+    n = list(grid.shape) + [1] * (3 - g)
+    origin = [float(a[0]) for a in grid.axes] + [0.0] * (3 - g)
+    spacing = [s or 1.0 for s in grid.spacing] + [1.0] * (3 - g)
+    extent = " ".join(f"0 {k - 1}" for k in n)
+    blocks, arrays, offset = [], [], 0
+    for name, v in grid.fields.items():
+        comps = 1 if v.ndim == g else v.shape[-1]
+        # VTK stores x fastest: reverse the spatial axes, keep components last
+        axes = tuple(range(g))[::-1] + tuple(range(g, v.ndim))
+        data = np.ascontiguousarray(np.transpose(v, axes))
+        raw = data.astype("<f8").tobytes()
+        arrays.append(
+            f'<DataArray type="Float64" Name="{name}" NumberOfComponents="{comps}" '
+            f'format="appended" offset="{offset}"/>'
+        )
+        blocks.append(np.uint64(len(raw)).tobytes() + raw)
+        offset += 8 + len(raw)
+    head = (
+        '<?xml version="1.0"?>\n'
+        '<VTKFile type="ImageData" version="1.0" byte_order="LittleEndian" '
+        'header_type="UInt64">\n'
+        f'<ImageData WholeExtent="{extent}" Origin="{" ".join(map(repr, origin))}" '
+        f'Spacing="{" ".join(map(repr, spacing))}">\n'
+        f'<Piece Extent="{extent}">\n<PointData>\n' + "\n".join(arrays) + "\n</PointData>\n"
+        "</Piece>\n</ImageData>\n"
+        '<AppendedData encoding="raw">\n_'
+    )
+    with open(path, "wb") as fh:
+        fh.write(head.encode())
+        for b in blocks:
+            fh.write(b)
+        fh.write(b"\n</AppendedData>\n</VTKFile>\n")
+
+
+def _zarr_names(grid: GridLike) -> list[str]:
+    """Axis array names, after checking the field names can sit beside them in a store."""
+    axes = list("xyz"[: len(grid.axes)])
+    for name in grid.fields:
+        if name in axes or not name or "/" in name or name.startswith("__") or not name.strip("."):
+            raise InterpError(
+                f"field name {name!r} cannot be stored in a Zarr grid: names must differ from "
+                f"the axes {axes}, be non-empty, hold no '/', not be only dots nor start with "
+                "'__'; rename the field"
+            )
+    return axes
+
+
+def save_zarr(grid: GridLike, path: str | Path) -> Path:
+    """Write a grid to a Zarr store, block by block, atomically.
+
+    Fields that are dask arrays are computed and written one block at a time
+    (all fields of a block together), so the grid is never held in memory
+    whole.  The store is written in a temporary directory beside ``path`` and
+    then moved in place; an existing ``path`` is replaced.  If writing fails,
+    ``path`` is left as it was and the temporary directory is removed (blocks
+    that other workers were still writing at that moment can leave part of it
+    behind, as a hidden ``.NAME.*.tmp`` directory beside ``path``).
+
+    Format (Zarr group, layout version 1):
+
+    - arrays ``x``, ``y`` (``z``): the node coordinates along each axis, float64;
+    - one array per field, float64, named after the field, of shape
+      ``(len(x), len(y)[, len(z)])`` indexed ``[i, j(, k)]`` ("ij"), with a
+      trailing axis for the components of a multi-component field, NaN at
+      nodes outside the mesh; chunked like the dask array (or as zarr
+      chooses for numpy);
+    - group attributes: ``"interp": "interp.grid"``, ``"version": 1``,
+      ``"axes"`` (the axis array names), ``"fields"`` (field names in order),
+      ``"spacing"`` (node spacing per axis, 0 for a single node) and
+      ``"units"`` (field name to units, for fields that have them).
+
+    Parameters
+    ----------
+    grid : Grid
+        Fields as dask or numpy arrays.
+    path : str or Path
+        The store directory, conventionally ending in ``.zarr``.
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Examples
+    --------
+    >>> import tempfile, zarr
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))}, {"z": "m"})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     out = save_zarr(g, Path(d) / "g.zarr")
+    ...     dict(zarr.open_group(out, mode="r").attrs)["units"]
+    {'z': 'm'}
+    """
+    import dask
+    import dask.array as da
+    import zarr
+
+    path = Path(path)
+    names = _zarr_names(grid)
+    if not path.parent.is_dir():
+        raise InterpError(f"cannot write {path}: the folder {path.parent} does not exist")
+    tmp = path.with_name(f".{path.name}.{uuid.uuid4().hex}.tmp")
+    try:
+        writes = [
+            da.to_zarr(da.from_array(a), str(tmp), component=n, compute=False)
+            for n, a in zip(names, grid.axes, strict=True)
+        ]
+        for name, values in grid.fields.items():
+            arr = values if is_dask(values) else da.from_array(np.asarray(values))
+            if any(len(set(c[:-1])) > 1 or c[-1] > c[0] for c in arr.chunks):
+                arr = arr.rechunk(arr.chunksize)  # zarr needs equal chunks but the last
+            writes.append(da.to_zarr(arr, str(tmp), component=name, compute=False))
+        dask.compute(*writes)
+        zarr.open_group(str(tmp), mode="r+").attrs.update(
+            {
+                "interp": ZARR_MARK,
+                "version": ZARR_VERSION,
+                "axes": names,
+                "fields": list(grid.fields),
+                "spacing": list(grid.spacing),
+                "units": dict(grid.units),
+            }
+        )
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    move_into_place(tmp, path)
+    return path
+
+
+def read_zarr(path: str | Path) -> GridParts:
+    """Axes, fields (lazy dask arrays) and units of a grid written by :func:`save_zarr`;
+    :func:`interp.open_zarr` makes them a :class:`interp.Grid`.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.arange(6.0).reshape(3, 2)})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     axes, fields, units = read_zarr(save_zarr(g, Path(d) / "g.zarr"))
+    ...     [len(a) for a in axes], fields["z"][2].compute().tolist()
+    ([3, 2], [4.0, 5.0])
+    """
+    import dask.array as da
+    import zarr
+
+    try:
+        root = zarr.open_group(str(path), mode="r")
+    except (FileNotFoundError, zarr.errors.GroupNotFoundError) as exc:
+        raise InterpError(f"{path}: no Zarr grid there ({exc})") from None
+    attrs = dict(root.attrs)
+    if attrs.get("interp") != ZARR_MARK or attrs.get("version") != ZARR_VERSION:
+        raise InterpError(
+            f"{path}: not a grid written by interp (layout version {ZARR_VERSION}); "
+            "its attributes lack the 'interp' mark"
+        )
+    axes = tuple(np.asarray(root[n][:], dtype=np.float64) for n in attrs["axes"])
+    fields = {n: da.from_zarr(str(path), component=n) for n in attrs["fields"]}
+    return axes, fields, dict(attrs["units"])
+
+
+#: grid writers by file suffix: ``writer(grid, path) -> path``.
+GRID_WRITERS: dict[str, Callable[[GridLike, Path], Path]] = {
+    ".csv": _write_csv,
+    ".zarr": save_zarr,
+    ".npz": _atomically(_write_npz),
+    ".vti": _atomically(_write_vti),
+}
+#: grid readers by file suffix: ``reader(path) -> (axes, fields, units)``.
+GRID_READERS: dict[str, Callable[[Path], GridParts]] = {".zarr": read_zarr}
