@@ -147,7 +147,7 @@ def test_the_one_upward_import_stays_inside_a_function():
 
 
 #: modules still to be split; each must still be long (remove it when it is split).
-LONG = {"interp._validate", "interp.clip", "interp.view"}
+LONG = {"interp._validate", "interp.clip"}
 
 
 @pytest.mark.parametrize("module", sorted(MODULES))

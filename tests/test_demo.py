@@ -81,13 +81,13 @@ def test_demo_without_offscreen_rendering_still_reports(tmp_path, monkeypatch):
     # a server without EGL or OSMesa: the viewer refuses to draw, and the demo writes its
     # figures and files anyway, saying why the pictures are missing
     from interp import demo as demo_module
-    from interp import view
     from interp.errors import RenderingUnavailable
+    from interp.view import _surfaces
 
     def refuse(*args, **kwargs):
         raise RenderingUnavailable("no off-screen OpenGL is available (test)")
 
-    monkeypatch.setattr(view, "_plotter", refuse)
+    monkeypatch.setattr(_surfaces, "new_plotter", refuse)
     summary = demo_module.run(tmp_path)
     assert summary.figures["pictures"] == "skipped: no off-screen OpenGL is available (test)"
     assert "pictures skipped: no off-screen OpenGL" in summary.text()

@@ -1,5 +1,6 @@
 """Pictures: rendered off screen to PNG and checked pixel by pixel and through the plotter."""
 
+import ctypes.util
 import os
 import subprocess
 import sys
@@ -16,7 +17,7 @@ import interp
 from interp import view
 from interp.grid import Grid
 from interp.resample import Profile
-from interp.view import plot, plot_difference, plot_profile, plot_residuals
+from interp.view import _render, plot, plot_difference, plot_profile, plot_residuals
 
 SIZE = (400, 300)
 
@@ -319,7 +320,7 @@ def test_without_display_the_picture_goes_to_a_default_file(tmp_path, monkeypatc
 def test_missing_offscreen_opengl_is_an_error_not_a_crash(monkeypatch):
     # VTK picks OSMesa when told to; with the library absent rendering would crash
     monkeypatch.setenv("VTK_DEFAULT_OPENGL_WINDOW", "vtkOSOpenGLRenderWindow")
-    monkeypatch.setattr(view.ctypes.util, "find_library", lambda name: None)
+    monkeypatch.setattr(ctypes.util, "find_library", lambda name: None)
     with pytest.raises(interp.InterpError, match="libosmesa6"):
         plot(ramp(1), window_size=SIZE, off_screen=True)
 
@@ -417,6 +418,6 @@ def test_profile_bad_input():
 def test_headless_detection_follows_the_display_variables(monkeypatch):
     monkeypatch.delenv("DISPLAY", raising=False)
     monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
-    assert view._headless() == sys.platform.startswith("linux")
+    assert _render.no_display() == sys.platform.startswith("linux")
     monkeypatch.setenv("WAYLAND_DISPLAY", "wayland-0")
-    assert not view._headless()
+    assert not _render.no_display()
