@@ -31,15 +31,21 @@ an edge) raised to the cell's dimension for measures, or in barycentric units.
   empty-circumsphere test.
 - ``ZERO_AREA`` (1e-12): a polygon ring with less area, relative to its
   extent squared, has none.
+- ``BIN_SLACK`` (1e-9): bucket widths added around a polygon edge when it is
+  binned, so that rounding never leaves an edge out of a bucket it touches.
+- ``MIN_RCOND`` (1e-3) and ``MIN_RCOND_LINEAR`` (1e-14): the conditioning a
+  local least-squares gradient fit needs to be accepted (quadratic, then the
+  linear fallback, which only has to be of full rank).
 """
 
 from __future__ import annotations
 
 from math import factorial
 
-import numba
 import numpy as np
 
+from interp._arrays import positive
+from interp._kernels.geometry import measure_and_size
 from interp.errors import InterpError
 
 #: relative size below which a cell counts as degenerate (zero measure).
@@ -65,6 +71,13 @@ EMPTY = 1e-12
 FLAT = 1e-12
 #: polygon area, relative to its bounding box's squared size, below which it counts as empty.
 ZERO_AREA = 1e-12
+#: slack, in bucket widths, added around each polygon edge when binning it.
+BIN_SLACK = 1e-9
+#: smallest ratio of the last to the first pivot of the column-scaled design
+#: matrix for which a quadratic fit is accepted (below it: the 2-ring, then linear).
+MIN_RCOND = 1e-3
+#: the same for the linear fallback fit, which only has to be of full rank.
+MIN_RCOND_LINEAR = 1e-14
 
 
 def is_flat(vol: np.ndarray, size: np.ndarray, dim: int) -> np.ndarray:
@@ -182,48 +195,8 @@ def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     corners = np.ascontiguousarray(corners, dtype=np.float64)
     vol = np.empty(corners.shape[0])
     size = np.empty(corners.shape[0])
-    _geometry(corners, vol, size)
+    measure_and_size(corners, vol, size)
     return vol / factorial(corners.shape[1] - 1), size
-
-
-@numba.njit(cache=True, nogil=True)
-def _det(a, n):  # pragma: no cover
-    """Determinant of the leading n x n block of a (n <= 3), expanded as :func:`det`."""
-    if n == 1:
-        return a[0, 0]
-    if n == 2:
-        return a[0, 0] * a[1, 1] - a[0, 1] * a[1, 0]
-    return (
-        a[0, 0] * (a[1, 1] * a[2, 2] - a[1, 2] * a[2, 1])
-        - a[0, 1] * (a[1, 0] * a[2, 2] - a[1, 2] * a[2, 0])
-        + a[0, 2] * (a[1, 0] * a[2, 1] - a[1, 1] * a[2, 0])
-    )
-
-
-@numba.njit(cache=True, nogil=True)
-def _geometry(corners, vol, size):  # pragma: no cover
-    """|det E| (or sqrt det E E^T) and the largest |E| entry of each simplex's edges E."""
-    m, k, g = corners.shape
-    t = k - 1
-    e = np.empty((3, 3))
-    gram = np.empty((3, 3))
-    for c in range(m):
-        big = 0.0
-        for r in range(t):
-            for a in range(g):
-                e[r, a] = corners[c, r + 1, a] - corners[c, 0, a]
-                big = max(big, abs(e[r, a]))
-        size[c] = big
-        if t == g:
-            vol[c] = abs(_det(e, t))
-            continue
-        for r in range(t):
-            for q in range(t):
-                s = 0.0
-                for a in range(g):
-                    s += e[r, a] * e[q, a]
-                gram[r, q] = s
-        vol[c] = np.sqrt(max(_det(gram, t), 0.0))
 
 
 def longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
@@ -237,6 +210,33 @@ def longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
     k = cells.shape[1]
     a, b = np.triu_indices(k, 1)
     return np.linalg.norm(points[cells[:, a]] - points[cells[:, b]], axis=2).max(axis=1)
+
+
+def short_cells(points: np.ndarray, cells: np.ndarray, max_edge: object) -> np.ndarray:
+    """The ``max_edge`` mask: True for cells whose edges are all at most ``max_edge``
+    (a positive length, checked here).
+
+    Examples
+    --------
+    >>> pts = np.array([[0.0, 0], [3, 0], [0, 4], [1, 1]])
+    >>> short_cells(pts, np.array([[0, 1, 2], [0, 1, 3]]), 4.0).tolist()
+    [False, True]
+    """
+    return longest_edge(points, cells) <= positive(max_edge, "max_edge")
+
+
+def polyline_lengths(line: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Lengths of the segments of a polyline (p, g) and the distance along it of each
+    vertex from the first (the chainage).
+
+    Examples
+    --------
+    >>> seg, along = polyline_lengths(np.array([[0.0, 0], [3, 4], [3, 5]]))
+    >>> seg.tolist(), along.tolist()
+    ([5.0, 1.0], [0.0, 5.0, 6.0])
+    """
+    length = np.linalg.norm(np.diff(line, axis=0), axis=1)
+    return length, np.concatenate([[0.0], np.cumsum(length)])
 
 
 def check_fills_space(dim: int, gdim: int, cell_type: str, what: str) -> None:
@@ -264,40 +264,3 @@ def grid_nodes(axes: tuple[np.ndarray, ...]) -> np.ndarray:
     """
     mesh = np.meshgrid(*axes, indexing="ij")
     return np.stack([m.ravel() for m in mesh], axis=1)
-
-
-@numba.njit(cache=True, nogil=True)
-def affine_maps(points, corners, affine, c0, c1):  # pragma: no cover
-    """Affine map to barycentric coordinates of cells c0 to c1 - 1 of a mesh whose
-    cells fill their space: ``bary[1:] = x @ affine[c, :g] + affine[c, g]``."""
-    g = points.shape[1]
-    e = np.empty((g, g))
-    inv = np.empty((g, g))
-    for c in range(c0, c1):
-        v0 = corners[c, 0]
-        for r in range(g):
-            for a in range(g):
-                e[r, a] = points[corners[c, r + 1], a] - points[v0, a]
-        if g == 1:
-            inv[0, 0] = 1.0 / e[0, 0]
-        elif g == 2:
-            d = e[0, 0] * e[1, 1] - e[0, 1] * e[1, 0]
-            inv[0, 0], inv[0, 1] = e[1, 1] / d, -e[0, 1] / d
-            inv[1, 0], inv[1, 1] = -e[1, 0] / d, e[0, 0] / d
-        else:
-            # rows of the inverse of the matrix whose columns are e[:, a]: cross products
-            for r in range(3):
-                p, q = (r + 1) % 3, (r + 2) % 3
-                inv[r, 0] = e[1, p] * e[2, q] - e[2, p] * e[1, q]
-                inv[r, 1] = e[2, p] * e[0, q] - e[0, p] * e[2, q]
-                inv[r, 2] = e[0, p] * e[1, q] - e[1, p] * e[0, q]
-            d = e[0, 0] * inv[0, 0] + e[1, 0] * inv[0, 1] + e[2, 0] * inv[0, 2]
-            for r in range(3):
-                for a in range(3):
-                    inv[r, a] /= d
-        for b in range(g):
-            shift = 0.0
-            for a in range(g):
-                affine[c, a, b] = inv[a, b]
-                shift -= points[v0, a] * inv[a, b]
-            affine[c, g, b] = shift

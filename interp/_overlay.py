@@ -16,10 +16,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numba
 import numpy as np
 
 from interp._geometry import OVERLAY_SLIVER, simplex_geometry
+from interp._kernels.clip import intersect
 from interp.errors import InterpError
 from interp.mesh import Mesh
 
@@ -111,7 +111,7 @@ def overlay_cells(mesh_a: Mesh, mesh_b: Mesh) -> tuple[np.ndarray, np.ndarray]:
     centre, scale = mesh_b.frame
     a = (mesh_a.points[mesh_a.corners] - centre) / scale
     b = (mesh_b.points[mesh_b.corners] - centre) / scale
-    tri, parents = _intersect(
+    tri, parents = intersect(
         np.ascontiguousarray(a),
         np.ascontiguousarray(b),
         index.lo,
@@ -126,91 +126,3 @@ def overlay_cells(mesh_a: Mesh, mesh_b: Mesh) -> tuple[np.ndarray, np.ndarray]:
         keep = area > OVERLAY_SLIVER * size**2
         tri, parents = tri[keep], parents[keep]
     return tri, parents
-
-
-@numba.njit(cache=True, nogil=True)
-def _ccw(t):  # pragma: no cover
-    """Copy of triangle t (3, 2) in counter-clockwise order."""
-    v = t.copy()
-    if (v[1, 0] - v[0, 0]) * (v[2, 1] - v[0, 1]) < (v[1, 1] - v[0, 1]) * (v[2, 0] - v[0, 0]):
-        v[1, :] = t[2]
-        v[2, :] = t[1]
-    return v
-
-
-@numba.njit(cache=True, nogil=True)
-def _clip_triangle(subject, v, poly, work):  # pragma: no cover
-    """Sutherland-Hodgman: subject triangle clipped by the ccw triangle v; returns the count."""
-    n = 3
-    poly[:3] = subject
-    for k in range(3):
-        px, py = v[k, 0], v[k, 1]
-        ex, ey = v[(k + 1) % 3, 0] - px, v[(k + 1) % 3, 1] - py
-        m = 0
-        for i in range(n):
-            prev = i - 1 if i > 0 else n - 1
-            sx, sy = poly[prev, 0], poly[prev, 1]
-            qx, qy = poly[i, 0], poly[i, 1]
-            ds = ex * (sy - py) - ey * (sx - px)
-            dq = ex * (qy - py) - ey * (qx - px)
-            if (ds >= 0.0) != (dq >= 0.0):
-                w = ds / (ds - dq)
-                work[m, 0], work[m, 1] = sx + w * (qx - sx), sy + w * (qy - sy)
-                m += 1
-            if dq >= 0.0:
-                work[m, 0], work[m, 1] = qx, qy
-                m += 1
-        n = m
-        poly[:n] = work[:n]
-        if n < 3:
-            return 0
-    return n
-
-
-@numba.njit(cache=True, nogil=True)
-def _intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
-    """Fan triangles of every non-empty intersection of a cell of a with a cell of b."""
-    nb = b.shape[0]
-    box = np.empty((nb, 4))
-    for c in range(nb):
-        box[c, 0], box[c, 1] = b[c, :, 0].min(), b[c, :, 0].max()
-        box[c, 2], box[c, 3] = b[c, :, 1].min(), b[c, :, 1].max()
-    stamp = np.full(nb, -1, dtype=np.int64)
-    poly = np.empty((32, 2))
-    work = np.empty((32, 2))
-    out = np.empty((4 * a.shape[0] + 16, 3, 2))
-    par = np.empty((out.shape[0], 2), dtype=np.int64)
-    n = 0
-    for c in range(a.shape[0]):
-        u = _ccw(a[c])
-        x0, x1 = u[:, 0].min(), u[:, 0].max()
-        y0, y1 = u[:, 1].min(), u[:, 1].max()
-        i0 = int(max(np.floor((x0 - lo[0]) / h[0]), 0.0))
-        i1 = int(min(np.floor((x1 - lo[0]) / h[0]), shape[0] - 1.0))
-        j0 = int(max(np.floor((y0 - lo[1]) / h[1]), 0.0))
-        j1 = int(min(np.floor((y1 - lo[1]) / h[1]), shape[1] - 1.0))
-        for i in range(i0, i1 + 1):
-            for j in range(j0, j1 + 1):
-                bucket = i * shape[1] + j
-                for q in range(start[bucket], start[bucket + 1]):
-                    d = members[q]
-                    if stamp[d] == c:
-                        continue
-                    stamp[d] = c
-                    if box[d, 0] > x1 or box[d, 1] < x0 or box[d, 2] > y1 or box[d, 3] < y0:
-                        continue
-                    k = _clip_triangle(u, _ccw(b[d]), poly, work)
-                    if k < 3:
-                        continue
-                    if n + k - 2 > out.shape[0]:
-                        grown = np.empty((2 * out.shape[0] + k, 3, 2))
-                        grown[:n] = out[:n]
-                        out = grown
-                        grown_par = np.empty((grown.shape[0], 2), dtype=np.int64)
-                        grown_par[:n] = par[:n]
-                        par = grown_par
-                    for f in range(1, k - 1):
-                        out[n, 0], out[n, 1], out[n, 2] = poly[0], poly[f], poly[f + 1]
-                        par[n, 0], par[n, 1] = c, d
-                        n += 1
-    return out[:n], par[:n]

@@ -13,8 +13,8 @@ import warnings
 import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
-from interp._arrays import as_points, check_finite, positive
-from interp._geometry import box_frame, is_flat, longest_edge, simplex_geometry
+from interp._arrays import as_points, check_finite
+from interp._geometry import box_frame, is_flat, short_cells, simplex_geometry
 from interp.errors import InterpError
 from interp.mesh import Mesh
 from interp.polygon import as_ring, contains
@@ -124,7 +124,7 @@ def triangulate(
     _report_unused(uniq, cells, inverse)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
-        keep &= longest_edge(uniq, cells) <= positive(max_edge, "max_edge")
+        keep &= short_cells(uniq, cells, max_edge)
     if boundary is not None:
         if d != 2:
             raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")

@@ -4,11 +4,11 @@ mesh's Lagrange basis (P1 on linear meshes, P2 on quadratic ones).
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp import parallel
 from interp._arrays import as_floats, as_points, is_dask
+from interp._kernels.evaluate import combine
 from interp.basis import shape, shape_dbary
 from interp.errors import InterpError
 from interp.index import Location
@@ -113,7 +113,7 @@ class Field:
         weights = shape(self.mesh.dim, self.mesh.order, location.bary)
         values = self.values.reshape(self.mesh.n_nodes, -1)
         out = np.empty((location.cells.size, values.shape[1]))
-        _combine(weights, self.mesh.cells, location.cells, values, float(outside), out)
+        combine(weights, self.mesh.cells, location.cells, values, float(outside), out)
         return out.reshape(location.cells.shape + self.values.shape[1:])
 
     def gradient(self, query: object) -> np.ndarray:
@@ -170,22 +170,3 @@ class Field:
         from interp._integrate import integrate
 
         return integrate(self, region=region)
-
-
-@numba.njit(cache=True, nogil=True)
-def _combine(weights, nodes, cells, values, outside, out):  # pragma: no cover
-    """out[p] = sum_k weights[p, k] values[nodes[cells[p], k]]; ``outside`` where cells[p] < 0.
-
-    One pass with no temporaries: the gathers of a numpy version cost more
-    than the arithmetic.
-    """
-    for p in range(cells.size):
-        c = cells[p]
-        for j in range(values.shape[1]):
-            if c < 0:
-                out[p, j] = outside
-                continue
-            s = 0.0
-            for k in range(weights.shape[1]):
-                s += weights[p, k] * values[nodes[c, k], j]
-            out[p, j] = s

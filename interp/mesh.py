@@ -15,12 +15,12 @@ from __future__ import annotations
 from functools import cached_property
 from math import comb
 
-import numba
 import numpy as np
 
 from interp import parallel
 from interp._arrays import as_points, check_finite, is_dask
-from interp._geometry import affine_maps, box_frame, check_fills_space, is_flat, simplex_geometry
+from interp._geometry import box_frame, check_fills_space, is_flat, simplex_geometry
+from interp._kernels.geometry import affine_maps, bad_cells
 from interp.basis import EDGES
 from interp.errors import InterpError
 from interp.index import CellIndex, Location, in_parts, locate, threads
@@ -413,7 +413,7 @@ def _infer_kind(k: int, g: int, cell_type: str | None) -> tuple[int, int]:
 
 
 def _check_indices(cells: np.ndarray, n: int) -> None:
-    out_of_range, repeated = _bad_cells(cells, n)
+    out_of_range, repeated = bad_cells(cells, n)
     if out_of_range.size:
         row = int(out_of_range[0])
         raise InterpError(
@@ -426,22 +426,6 @@ def _check_indices(cells: np.ndarray, n: int) -> None:
             f"{repeated.size} cell(s) repeat a node, the first is cell {row} = "
             f"{cells[row].tolist()}; each cell needs distinct nodes"
         )
-
-
-@numba.njit(cache=True, nogil=True)
-def _bad_cells(cells, n):  # pragma: no cover
-    """Cells with a node index outside 0..n-1, and cells that repeat a node."""
-    m, k = cells.shape
-    out_of_range = np.zeros(m, dtype=np.bool_)
-    repeated = np.zeros(m, dtype=np.bool_)
-    for c in range(m):
-        for i in range(k):
-            if cells[c, i] < 0 or cells[c, i] >= n:
-                out_of_range[c] = True
-            for j in range(i):
-                if cells[c, i] == cells[c, j]:
-                    repeated[c] = True
-    return np.flatnonzero(out_of_range), np.flatnonzero(repeated)
 
 
 def _check_measure(mesh: Mesh) -> None:

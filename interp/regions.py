@@ -21,7 +21,7 @@ from functools import cached_property
 import numpy as np
 
 from interp._arrays import as_points
-from interp._geometry import ZERO_AREA
+from interp._geometry import ZERO_AREA, check_fills_space
 from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import EdgeGrid, as_ring, contains, first_crossing, ring_area, ring_edges
@@ -305,11 +305,7 @@ class LevelSet(Region):
                 "LevelSet needs a P1 (linear) field so that its boundary is straight in each "
                 "cell; use Field(field.mesh.linear(), field.values) for the corner values"
             )
-        if field.mesh.dim != field.mesh.gdim:
-            raise InterpError(
-                f"LevelSet needs cells that fill their space; the field's mesh has "
-                f"{field.mesh.cell_type} cells in {field.mesh.gdim}D"
-            )
+        check_fills_space(field.mesh.dim, field.mesh.gdim, field.mesh.cell_type, "LevelSet")
         if side not in ("above", "below"):
             raise InterpError(f"LevelSet side must be 'above' or 'below'; got {side!r}")
         self.value = float(value)

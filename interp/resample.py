@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 
 from interp._arrays import as_points
+from interp._geometry import polyline_lengths
 from interp.errors import InterpError
 from interp.field import Field
 from interp.grid import as_fields, evaluate_fields
@@ -101,12 +102,11 @@ def profile(
     if not np.isfinite(step) or step <= 0:
         raise InterpError(f"step must be a positive distance; got {step}")
     seg = np.diff(vertices, axis=0)
-    length = np.linalg.norm(seg, axis=1)
+    length, start = polyline_lengths(vertices)
     if (length == 0).any():
         raise InterpError(
             f"the profile line repeats a vertex (segment {int(np.argmin(length))} has zero length)"
         )
-    start = np.concatenate([[0.0], np.cumsum(length)])
     count = np.ceil(length / step * (1 - 1e-12)).astype(np.int64)
     which = np.repeat(np.arange(len(seg)), count)
     local = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) * step

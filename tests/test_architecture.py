@@ -146,17 +146,10 @@ def test_the_one_upward_import_stays_inside_a_function():
         assert found and all(found), f"{module} must import {target} only inside a function"
 
 
-#: modules still to be split; each must still be long (remove it when it is split).
-LONG = {"interp._validate", "interp.clip"}
-
-
 @pytest.mark.parametrize("module", sorted(MODULES))
 def test_module_is_short(module):
     lines = MODULES[module].read_text().count("\n")
-    if module in LONG:
-        assert lines > MAX_LINES, f"{module} is short now: remove it from LONG"
-    else:
-        assert lines <= MAX_LINES, f"{MODULES[module]} has {lines} lines (at most {MAX_LINES})"
+    assert lines <= MAX_LINES, f"{MODULES[module]} has {lines} lines (at most {MAX_LINES})"
 
 
 def test_no_private_name_imported_across_modules():

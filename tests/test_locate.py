@@ -11,7 +11,8 @@ from scipy.spatial import Delaunay
 
 import interp
 from interp import InterpError, Mesh
-from interp.index import TIE, TOLERANCE, _bucket_of, _counting_order
+from interp._geometry import TIE, TOLERANCE
+from interp._kernels.locate import bucket_of, counting_order
 
 
 def brute_force(mesh: Mesh, q: np.ndarray) -> np.ndarray:
@@ -232,7 +233,7 @@ def test_bucket_lists_hold_every_cell_that_can_contain_a_point(rng, d, n):
     index = mesh.index
     x = (q - index.center) / index.scale
     flat = np.empty(len(q), dtype=np.int64)
-    _bucket_of(x, index.lo, index.h, index.shape, flat)
+    bucket_of(x, index.lo, index.h, index.shape, flat)
     lam = brute_force(mesh, q)
     near = lam.min(axis=2) >= -TOLERANCE / 2
     for p, c in zip(*np.nonzero(near), strict=True):
@@ -246,7 +247,7 @@ def test_bucket_lists_hold_every_cell_that_can_contain_a_point(rng, d, n):
 def test_counting_order_is_a_stable_sort(rng):
     # reference: numpy's stable argsort; points outside (-1) come first
     flat = rng.integers(-1, 50, 5000)
-    np.testing.assert_array_equal(_counting_order(flat, 50), np.argsort(flat, kind="stable"))
+    np.testing.assert_array_equal(counting_order(flat, 50), np.argsort(flat, kind="stable"))
 
 
 def test_few_and_many_queries_agree(rng):

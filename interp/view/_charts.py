@@ -7,6 +7,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from interp._geometry import polyline_lengths
 from interp.errors import InterpError
 from interp.view._render import finish_figure, new_figure
 from interp.view._surfaces import DIVERGING_CMAP
@@ -274,11 +275,12 @@ def _project(
         )
     a, ab = line[:-1], np.diff(line, axis=0)
     length2 = np.einsum("sg,sg->s", ab, ab)
-    chainage = start + np.concatenate([[0.0], np.cumsum(np.sqrt(length2))])
+    length, chainage = polyline_lengths(line)
+    chainage = start + chainage
     t = np.einsum("ksg,sg->ks", pts[:, None, :] - a[None], ab) / np.where(length2 > 0, length2, 1)
     t = np.clip(t, 0.0, 1.0)
     gap = np.linalg.norm(pts[:, None, :] - (a[None] + t[..., None] * ab[None]), axis=2)
     seg = np.argmin(gap, axis=1)
     rows = np.arange(len(pts))
-    along = chainage[seg] + t[rows, seg] * np.sqrt(length2[seg])
+    along = chainage[seg] + t[rows, seg] * length[seg]
     return along, gap[rows, seg], vals

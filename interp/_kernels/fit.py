@@ -1,0 +1,187 @@
+"""Local least-squares fits of the gradient at each node (gradient recovery for P2 fits)."""
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+
+from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR
+
+
+@numba.njit(cache=True, nogil=True)
+def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no cover
+    """Gradient at every node of ``x`` into ``grad`` (n, d, c)."""
+    n = x.shape[0]
+    mark = np.full(n, -1, dtype=np.int64)
+    members = np.empty(n, dtype=np.int64)
+    for i in range(n):
+        _node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
+
+
+@numba.njit(cache=True, nogil=True)
+def _node_gradient(
+    node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
+):  # pragma: no cover
+    """Recovered gradient (d, c) at ``node``: quadratic fit on the 1-ring, else 2-ring, else linear.
+
+    The neighbours of vertex q are ``over_idx[over_ptr[j]:over_ptr[j + 1]]`` when
+    ``over_node[j] == q`` and ``idx[ptr[q]:ptr[q + 1]]`` otherwise.  ``mark``
+    (n,) and ``members`` (n,) are scratch; ``stamp`` must differ from every
+    value already in ``mark``.
+
+    The neighbours are put in ascending index order before each fit, so the
+    result (and the choice between the fits, which the pivoting of the QR
+    makes depend on row order near the threshold) does not depend on the
+    order the neighbour lists come in; a leave-one-out refit, whose lists
+    are built differently, then takes the same decisions.
+    """
+    members[0] = node
+    mark[node] = stamp
+    count = _add_ring(node, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, 1)
+    if count == 1:
+        grad[:] = np.nan
+        return
+    ring1 = count
+    members[1:count].sort()
+    if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+        return
+    for r in range(1, ring1):
+        count = _add_ring(
+            members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
+        )
+    members[1:count].sort()
+    if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+        return
+    if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
+        grad[:] = np.nan
+
+
+@numba.njit(cache=True, nogil=True)
+def _add_ring(
+    q, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
+):  # pragma: no cover
+    """Append the neighbours of ``q`` not yet marked to ``members``; the new count."""
+    lo, hi, src = ptr[q], ptr[q + 1], idx
+    for j in range(over_node.size):
+        if over_node[j] == q:
+            lo, hi, src = over_ptr[j], over_ptr[j + 1], over_idx
+            break
+    for r in range(lo, hi):
+        b = src[r]
+        if mark[b] != stamp:
+            mark[b] = stamp
+            members[count] = b
+            count += 1
+    return count
+
+
+@numba.njit(cache=True, nogil=True)
+def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
+    """Least-squares polynomial of ``degree`` through the ``members``, centred at ``node``.
+
+    Writes its gradient at the node into ``grad`` (d, c) when the fit is
+    accepted (pivot ratio >= MIN_RCOND, or any full-rank fit for degree 1) and
+    returns the pivot ratio (0 when there are fewer points than coefficients).
+    """
+    d = x.shape[1]
+    nc = d + 1 if degree == 1 else (d + 1) * (d + 2) // 2
+    if count < nc:
+        return 0.0
+    h = 0.0
+    for r in range(count):
+        s = 0.0
+        for k in range(d):
+            s += (x[members[r], k] - x[node, k]) ** 2
+        h = max(h, s)
+    h = np.sqrt(h)
+    a = np.empty((count, nc))
+    b = np.empty((count, v.shape[1]))
+    for r in range(count):
+        j = members[r]
+        a[r, 0] = 1.0
+        for k in range(d):
+            a[r, 1 + k] = (x[j, k] - x[node, k]) / h
+        col = 1 + d
+        if degree == 2:
+            for k in range(d):
+                for m in range(k, d):
+                    a[r, col] = a[r, 1 + k] * a[r, 1 + m]
+                    col += 1
+        b[r] = v[j]
+    norm = np.empty(nc)
+    for k in range(nc):
+        s = 0.0
+        for r in range(count):
+            s += a[r, k] ** 2
+        norm[k] = np.sqrt(s)
+        if s > 0:
+            for r in range(count):
+                a[r, k] /= norm[k]
+    coef = np.empty((nc, v.shape[1]))
+    min_rcond = MIN_RCOND if degree == 2 else MIN_RCOND_LINEAR
+    rcond = _lstsq(a, b, coef, min_rcond)
+    if rcond >= min_rcond:
+        for k in range(d):
+            grad[k] = coef[1 + k] / (norm[1 + k] * h)
+    return rcond
+
+
+@numba.njit(cache=True, nogil=True)
+def _lstsq(a, b, out, min_rcond):  # pragma: no cover
+    """Least squares ``a @ out ~ b`` by Householder QR with column pivoting.
+
+    ``a`` (m, n) and ``b`` (m, c) are overwritten.  Returns |R[n-1, n-1]| /
+    |R[0, 0]|; ``out`` (n, c) is solved only when that ratio is >= min_rcond.
+    """
+    m, n = a.shape
+    perm = np.arange(n)
+    w = np.empty(m)
+    for j in range(n):
+        best, best_norm = j, -1.0
+        for k in range(j, n):
+            s = 0.0
+            for r in range(j, m):
+                s += a[r, k] ** 2
+            if s > best_norm:
+                best, best_norm = k, s
+        if best_norm == 0.0:
+            return 0.0
+        for r in range(m):
+            a[r, j], a[r, best] = a[r, best], a[r, j]
+        perm[j], perm[best] = perm[best], perm[j]
+        alpha = -np.sqrt(best_norm) if a[j, j] > 0 else np.sqrt(best_norm)
+        ww = 0.0
+        for r in range(j, m):
+            w[r] = a[r, j]
+        w[j] -= alpha
+        for r in range(j, m):
+            ww += w[r] ** 2
+        _reflect(w, ww, j, a, j)
+        _reflect(w, ww, j, b, 0)
+    rcond = abs(a[n - 1, n - 1]) / abs(a[0, 0])
+    if rcond >= min_rcond:
+        for j in range(n - 1, -1, -1):
+            for c in range(b.shape[1]):
+                s = b[j, c]
+                for k in range(j + 1, n):
+                    s -= a[j, k] * out[perm[k], c]
+                out[perm[j], c] = s / a[j, j]
+    return rcond
+
+
+@numba.njit(cache=True, nogil=True)
+def _reflect(w, ww, j, a, first):  # pragma: no cover
+    """Apply the Householder reflection I - 2 w w^T / ww (rows j:) to columns first: of a."""
+    for k in range(first, a.shape[1]):
+        s = 0.0
+        for r in range(j, a.shape[0]):
+            s += w[r] * a[r, k]
+        s *= 2.0 / ww
+        for r in range(j, a.shape[0]):
+            a[r, k] -= s * w[r]
+
+
+#: the gradients of every node, for :func:`interp._fit.recover_gradients`.
+recover = _recover
+#: the local gradient fit of one node, for the leave-one-out of :mod:`interp._validate`.
+node_gradient = _node_gradient
