@@ -186,7 +186,8 @@ def fit(
     max_edge, boundary
         Masks passed to :func:`interp.triangulate`: cells with an edge longer
         than ``max_edge``, or (2D) with the centroid outside the ``boundary``
-        polygon, are removed.
+        polygon (an :class:`interp.Polygon`, holes included, or one ring), are
+        removed.
 
     Returns
     -------

@@ -18,6 +18,7 @@ from interp._geometry import box_frame, is_flat, short_cells, simplex_geometry
 from interp.errors import InterpError
 from interp.mesh import Mesh
 from interp.polygon import as_ring, contains
+from interp.regions import Polygon
 
 
 def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -68,8 +69,9 @@ def triangulate(
         warning; the mesh nodes are the distinct points in first-seen order.
     max_edge : float, optional
         Drop cells with any edge longer than this.
-    boundary : array_like (p, 2), optional
-        2D only: a polygon; cells whose centroid lies outside it are dropped.
+    boundary : Polygon or array_like (p, 2), optional
+        2D only: a polygon (an :class:`interp.Polygon`, holes included, or one
+        ring of vertices); cells whose centroid lies outside it are dropped.
 
     Returns
     -------
@@ -126,9 +128,7 @@ def triangulate(
     if max_edge is not None:
         keep &= short_cells(uniq, cells, max_edge)
     if boundary is not None:
-        if d != 2:
-            raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-        keep &= contains([as_ring(boundary, "boundary")], uniq[cells].mean(axis=1))
+        keep &= inside_boundary(uniq, cells, boundary)
     if not keep.any():
         raise InterpError(
             "every cell was removed by the max_edge / boundary masks; "
@@ -136,6 +136,30 @@ def triangulate(
         )
     # Delaunay cells of checked points need no second check; their measures scale back
     return Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
+
+
+def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> np.ndarray:
+    """The ``boundary`` mask: True for cells whose centroid lies inside the polygon
+    (an :class:`interp.Polygon`, holes included, or one ring of vertices); 2D only.
+
+    Examples
+    --------
+    >>> from interp import Polygon
+    >>> pts = np.array([[0.0, 0], [4, 0], [0, 4], [4, 4]])
+    >>> square = [[-1, -1], [5, -1], [5, 5], [-1, 5]]
+    >>> hole = [[2.1, 2.1], [3.9, 2.1], [3.9, 3.9], [2.1, 3.9]]
+    >>> cells = np.array([[0, 1, 2], [1, 3, 2]])
+    >>> inside_boundary(pts, cells, Polygon(square, [hole])).tolist()
+    [True, False]
+    """
+    d = points.shape[1]
+    if d != 2:
+        raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
+    if isinstance(boundary, Polygon):
+        rings = [boundary.exterior, *boundary.holes]
+    else:
+        rings = [as_ring(boundary, "boundary")]
+    return contains(rings, points[cells].mean(axis=1))
 
 
 def _drop_flat(

@@ -45,14 +45,19 @@ from interp._arrays import as_points, positive
 from interp._fit import midpoint, neighbours, samples
 from interp._geometry import short_cells
 from interp._kernels.validate import leave_one_out
-from interp._triangulate import triangulate
+from interp._triangulate import inside_boundary, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
 from interp.mesh import Mesh
 
 
 def crossvalidate(
-    points: object, values: object, *, order: int = 1, max_edge: float | None = None
+    points: object,
+    values: object,
+    *,
+    order: int = 1,
+    max_edge: float | None = None,
+    boundary: object | None = None,
 ) -> np.ndarray:
     """Leave-one-out residuals: each measured value minus its prediction from all the others.
 
@@ -69,6 +74,14 @@ def crossvalidate(
     max_edge : float, optional
         The ``max_edge`` mask of the fit: a prediction that falls in a cell
         with a longer edge is NaN.
+    boundary : Polygon or array_like (p, 2), optional
+        2D only: the ``boundary`` mask of the fit (an :class:`interp.Polygon`,
+        holes included, or one ring): a prediction that falls in a cell whose
+        centroid lies outside it is NaN.  For ``order=2`` the gradients
+        around a removed point are recovered from its re-triangulated
+        neighbourhood whether or not those new cells are inside the boundary,
+        so near the boundary a residual can differ slightly from that of a
+        refit with ``fit(..., boundary=)``.
 
     Returns
     -------
@@ -109,6 +122,12 @@ def crossvalidate(
         kept = short_cells(x, cells, limit)
         if not kept.any():
             raise InterpError(f"max_edge={max_edge} removes every cell; use a larger max_edge")
+    if boundary is not None:
+        kept &= inside_boundary(x, cells, boundary)
+        if not kept.any():
+            raise InterpError(
+                "the boundary mask removes every cell; check that the boundary surrounds the points"
+            )
     used = np.bincount(cells[kept].ravel(), minlength=len(x)) > 0
     ptr, idx = np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64)
     if order == 2:
@@ -119,6 +138,10 @@ def crossvalidate(
     grad = np.full((len(x) if order == 2 else 0, d + 1, d, data.mean.shape[1]), np.nan)
     vc_ptr, vc_idx = _vertex_cells(cells, len(x))
     leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, grad)
+    if boundary is not None:
+        # the cell of the others' triangulation that holds each point, masked as the fit's
+        found = np.flatnonzero(tri[:, 0] >= 0)
+        tri[found[~inside_boundary(x, tri[found], boundary)]] = -1
     predicted = _predict(x, data.mean, tri, bary, grad)
     # a repeated location: the others' fit holds the mean of its other measurements there
     rows = np.flatnonzero(data.valid)

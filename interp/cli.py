@@ -105,9 +105,17 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--field", help="use only this field (default: all)")
 
 
+def boundary_polygon(args: argparse.Namespace) -> interp.Polygon | None:
+    """The ``--boundary`` polygon, holes included (None without the option)."""
+    if not args.boundary:
+        return None
+    rings = interp.read_polygon(args.boundary)
+    return interp.Polygon(rings[0], rings[1:])
+
+
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
     stage(args, f"reading {path or args.source}")
-    boundary = interp.read_polygon(args.boundary)[0] if args.boundary else None
+    boundary = boundary_polygon(args)
     return load(
         path or args.source,
         coords=args.coords,
@@ -250,11 +258,14 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     result, lines = {}, []
+    boundary = boundary_polygon(args)
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
         stats = interp.residual_summary(
             points,
-            interp.crossvalidate(points, v, order=args.order, max_edge=args.max_edge),
+            interp.crossvalidate(
+                points, v, order=args.order, max_edge=args.max_edge, boundary=boundary
+            ),
             worst=args.worst,
         )
         result[name] = stats

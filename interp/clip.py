@@ -39,8 +39,6 @@ from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Regi
 
 #: triangles sampled to pick the bucket width of a polygon's edge grid.
 SAMPLE = 20000
-#: the kinds of region that clipping knows how to cut along.
-_KINDS = (Polygon, Box, HalfSpace, LevelSet)
 
 
 @dataclass(frozen=True, eq=False)
@@ -157,8 +155,8 @@ def check_region(region: object, gdim: int) -> None:
     for r in parts:
         if not isinstance(r, _KINDS):
             raise InterpError(
-                f"cannot clip by a {type(r).__name__}; use Polygon, Box, HalfSpace, LevelSet "
-                "or their Intersection"
+                f"cannot clip by a {type(r).__name__}; use "
+                f"{', '.join(k.__name__ for k in _KINDS)} or their Intersection"
             )
     if gdim != 2 and any(isinstance(r, Polygon) for r in parts):
         raise InterpError(
@@ -384,39 +382,64 @@ def _clip(corners, cells, region):
 
 
 def _apply(work: _Work, region: Region) -> _Work:
-    if isinstance(region, Intersection):
-        # polygons first: their kernel sorts whole cells fastest
-        for r in sorted(region.regions, key=lambda r: not isinstance(r, Polygon)):
-            work = _apply(work, r)
-        return work
-    if isinstance(region, Polygon):
-        local = np.ascontiguousarray(work.corners - work.center)
-        out, src, whole = _clip_polygon(local, [r - work.center for r in region.rings])
-        corners = np.empty_like(out)
-        # in cut pieces, corners of the input triangle get back their exact input coordinates
-        cut = np.flatnonzero(~whole)
-        new, old = out[cut], src[cut]
-        same = (new[:, :, None, :] == local[old][:, None, :, :]).all(axis=3)
-        pick = work.corners[old][np.arange(len(cut))[:, None], same.argmax(axis=2)]
-        corners[cut] = np.where(same.any(axis=2)[..., None], pick, new + work.center)
-        return work.replace(corners, src, whole & work.whole[src])
-    if isinstance(region, Box):
-        for h in region.half_spaces():
-            work = _apply(work, h)
-        return work
-    if isinstance(region, HalfSpace):
-        n = region.normal
-        work = work.cut((work.corners - work.center) @ n - (region.offset - n @ work.center))
-        axis = np.flatnonzero(n)
-        if axis.size == 1:
-            # a face of a box: keep round-off from putting crossings beyond the face
-            a = int(axis[0])
-            bound = region.offset / n[a]
-            clamp = np.minimum if n[a] > 0 else np.maximum
-            cut = ~work.whole
-            work.corners[cut, :, a] = clamp(work.corners[cut, :, a], bound)
-        return work
+    kind = next(k for k in type(region).__mro__ if k in _CUTS)
+    return _CUTS[kind](work, region)
+
+
+def _cut_intersection(work: _Work, region: Intersection) -> _Work:
+    # polygons first: their kernel sorts whole cells fastest
+    for r in sorted(region.regions, key=lambda r: not isinstance(r, Polygon)):
+        work = _apply(work, r)
+    return work
+
+
+def _cut_polygon(work: _Work, region: Polygon) -> _Work:
+    local = np.ascontiguousarray(work.corners - work.center)
+    out, src, whole = _clip_polygon(local, [r - work.center for r in region.rings])
+    corners = np.empty_like(out)
+    # in cut pieces, corners of the input triangle get back their exact input coordinates
+    cut = np.flatnonzero(~whole)
+    new, old = out[cut], src[cut]
+    same = (new[:, :, None, :] == local[old][:, None, :, :]).all(axis=3)
+    pick = work.corners[old][np.arange(len(cut))[:, None], same.argmax(axis=2)]
+    corners[cut] = np.where(same.any(axis=2)[..., None], pick, new + work.center)
+    return work.replace(corners, src, whole & work.whole[src])
+
+
+def _cut_box(work: _Work, region: Box) -> _Work:
+    for h in region.half_spaces():
+        work = _apply(work, h)
+    return work
+
+
+def _cut_half_space(work: _Work, region: HalfSpace) -> _Work:
+    n = region.normal
+    work = work.cut((work.corners - work.center) @ n - (region.offset - n @ work.center))
+    axis = np.flatnonzero(n)
+    if axis.size == 1:
+        # a face of a box: keep round-off from putting crossings beyond the face
+        a = int(axis[0])
+        bound = region.offset / n[a]
+        clamp = np.minimum if n[a] > 0 else np.maximum
+        cut = ~work.whole
+        work.corners[cut, :, a] = clamp(work.corners[cut, :, a], bound)
+    return work
+
+
+def _cut_level_set(work: _Work, region: LevelSet) -> _Work:
     return work.cut(region.excess(_level_values(work, region.field)))
+
+
+#: how each kind of region cuts simplices: a new kind of region is one entry here.
+_CUTS = {
+    Polygon: _cut_polygon,
+    Box: _cut_box,
+    HalfSpace: _cut_half_space,
+    LevelSet: _cut_level_set,
+    Intersection: _cut_intersection,
+}
+#: the kinds of region that clipping knows how to cut along (besides their Intersection).
+_KINDS = tuple(k for k in _CUTS if k is not Intersection)
 
 
 def _level_values(work: _Work, field: Field) -> np.ndarray:

@@ -181,23 +181,32 @@ def evaluate_fields(
 
 
 def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
-    """Bounds as a (2, g) array from a flat (xmin, xmax, ymin, ymax[, zmin, zmax]).
+    """Bounds as a (2, g) array from a flat (xmin, xmax, ymin, ymax[, zmin, zmax]), or
+    from a (2, g) array of minima and maxima (as :attr:`interp.Mesh.bounds`).
 
     Examples
     --------
     >>> grid_bounds(np.zeros((2, 2)), (0, 10, 5, 6)).tolist()
     [[0.0, 5.0], [10.0, 6.0]]
+    >>> grid_bounds(np.zeros((2, 2)), [[0, 5], [10, 6]]).tolist()
+    [[0.0, 5.0], [10.0, 6.0]]
     """
     g = mesh_bounds.shape[1]
     if bounds is None:
         return mesh_bounds.astype(np.float64)
-    b = as_floats(bounds, f"bounds must be {2 * g} finite numbers (xmin, xmax, ...)").ravel()
-    if b.size != 2 * g or not np.isfinite(b).all():
+    given = as_floats(bounds, f"bounds must be {2 * g} finite numbers (xmin, xmax, ...)")
+    b = given.ravel()
+    if b.size != 2 * g or given.ndim not in (1, 2) or not np.isfinite(b).all():
         raise InterpError(
-            f"bounds must be {2 * g} finite numbers (xmin, xmax, ...) for a {g}D field; got "
-            f"{np.asarray(bounds).tolist()}"
+            f"bounds must be {2 * g} finite numbers (xmin, xmax, ...) or a (2, {g}) array of "
+            f"minima and maxima for a {g}D field; got {np.asarray(bounds).tolist()}"
         )
-    out = b.reshape(g, 2).T.copy()
+    if given.ndim == 2 and given.shape != (2, g):
+        raise InterpError(
+            f"bounds as an array must have shape (2, {g}): minima, then maxima; got shape "
+            f"{given.shape}"
+        )
+    out = given.copy() if given.ndim == 2 else b.reshape(g, 2).T.copy()
     if (out[1] < out[0]).any():
         raise InterpError(f"bounds have a maximum below its minimum: {b.tolist()}")
     return out
@@ -224,7 +233,7 @@ def to_grid(
     fields: Field | Sequence[Field] | Mapping[str, Field],
     *,
     spacing: float | Sequence[float],
-    bounds: Sequence[float] | None = None,
+    bounds: Sequence[float] | np.ndarray | None = None,
     chunks: object | None = None,
 ) -> Grid:
     """Evaluate one or more fields on a regular node-centred grid.
@@ -235,9 +244,10 @@ def to_grid(
         Fields to grid (located once per distinct mesh).
     spacing : float or sequence of float
         Node spacing, one number or one per axis.
-    bounds : sequence of float, optional
-        ``(xmin, xmax, ymin, ymax[, zmin, zmax])``; default the bounds of the
-        meshes.
+    bounds : sequence of float or array_like (2, g), optional
+        ``(xmin, xmax, ymin, ymax[, zmin, zmax])``, or minima and maxima as
+        rows of a (2, g) array like :attr:`interp.Mesh.bounds`; default the
+        bounds of the meshes.
         Nodes start at each minimum and step by ``spacing`` up to the maximum.
     chunks : int, tuple or str, optional
         Evaluate lazily with dask in blocks of this shape (any form dask

@@ -46,9 +46,13 @@ class Volumes:
     Attributes
     ----------
     above : float
-        Volume where upper > lower (for ground over a design level: the cut).
+        Volume where upper > lower: what fills the space over the lower
+        surface.  With the existing ground as upper and a design level as
+        lower, it is the cut (material to remove), which the command line
+        prints as "above (fill over the lower surface / cut)".
     below : float
-        Volume where upper < lower, as a positive number (the fill).
+        Volume where upper < lower, as a positive number (with the ground as
+        upper: the fill, material to bring).
     net : float
         above - below: the integral of upper - lower.
     area : float

@@ -18,40 +18,13 @@ import resource
 import subprocess
 import sys
 import time
-from collections.abc import Callable
 
 import numpy as np
 from scipy.interpolate import LinearNDInterpolator
 from scipy.spatial import Delaunay
+from timing import best_of, best_of_each, row
 
 import interp
-
-
-def best_of(fn: Callable[[], object], repeat: int = 3) -> float:
-    """Smallest wall time of ``repeat`` calls, in seconds."""
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
-
-
-def best_of_each(fns: list[Callable[[], object]], repeat: int = 5) -> list[float]:
-    """Smallest wall time of each function over ``repeat`` rounds that call them in
-    turn, so a slow spell on a shared machine falls on every side alike."""
-    times = [[] for _ in fns]
-    for _ in range(repeat):
-        for fn, t in zip(fns, times, strict=True):
-            t.append(best_of(fn, 1))
-    return [min(t) for t in times]
-
-
-def row(label: str, ours: float, ref: float, unit: str = "s") -> None:
-    print(
-        f"  {label:<44} interp {ours:9.4f} {unit}   reference {ref:9.4f} {unit}   "
-        f"ratio {ref / ours:7.2f}"
-    )
 
 
 def grid_order(q: np.ndarray, cells_per_axis: int = 512) -> np.ndarray:

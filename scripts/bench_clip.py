@@ -15,10 +15,10 @@ same areas.
 from __future__ import annotations
 
 import argparse
-import time
 
 import numpy as np
 import shapely
+from timing import best_with_result
 
 import interp
 from interp.clip import clip
@@ -50,16 +50,6 @@ def concave_polygon(n_vertices: int) -> tuple[np.ndarray, np.ndarray]:
     return ext, hole
 
 
-def best_of(fn, repeat: int = 3) -> tuple[float, object]:
-    """Smallest wall time of ``repeat`` calls and the last result."""
-    best, out = np.inf, None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t)
-    return best, out
-
-
 def bench_clip(n_triangles: int = 1_000_000, n_vertices: int = 1000) -> dict[str, float]:
     """Time clip + P1 integration against shapely's intersection, check they agree.
 
@@ -85,11 +75,13 @@ def bench_clip(n_triangles: int = 1_000_000, n_vertices: int = 1000) -> dict[str
         pieces = clip(mesh, poly)
         return pieces, interp.integrate_pieces(field, mesh, pieces, 1)
 
-    t_clip, _ = best_of(lambda: clip(mesh, poly))
-    t_ours, (pieces, integral) = best_of(ours)
+    t_clip, _ = best_with_result(lambda: clip(mesh, poly))
+    t_ours, (pieces, integral) = best_with_result(ours)
     triangles = shapely.polygons(mesh.points[mesh.corners])
     region = shapely.Polygon(ext, [hole])
-    t_ref, ref_area = best_of(lambda: shapely.area(shapely.intersection(triangles, region)), 1)
+    t_ref, ref_area = best_with_result(
+        lambda: shapely.area(shapely.intersection(triangles, region)), 1
+    )
     area = np.bincount(pieces.parent, pieces.measure(), minlength=mesh.n_cells)
     figures = {
         "n_triangles": float(mesh.n_cells),

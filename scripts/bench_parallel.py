@@ -31,8 +31,8 @@ from contextlib import ExitStack
 import dask
 import dask.array as da
 import numpy as np
-from bench import best_of
 from distributed import Client, LocalCluster
+from timing import best_of
 
 import interp
 from interp.parallel import evaluate

@@ -16,20 +16,13 @@ point location on a new triangulation adds seconds more at this size).
 from __future__ import annotations
 
 import sys
-import time
 
 import numpy as np
 from scipy.interpolate import LinearNDInterpolator
 from scipy.spatial import Delaunay
+from timing import best_with_result
 
 import interp
-
-
-def timed(fn):
-    """(result, wall time in seconds) of one call."""
-    t = time.perf_counter()
-    out = fn()
-    return out, time.perf_counter() - t
 
 
 def bench_crossvalidate(n: int = 100_000, check: int = 6, check_p2: int = 4) -> dict:
@@ -47,13 +40,17 @@ def bench_crossvalidate(n: int = 100_000, check: int = 6, check_p2: int = 4) -> 
         vals = np.sin(4 * pts[:, 0]) * np.cos(3 * pts[:, -1]) + 0.01 * rng.normal(size=size)
         for order in (1, 2):
             interp.crossvalidate(pts[:200], vals[:200], order=order)  # compile once
-        res1, t1 = timed(lambda pts=pts, vals=vals: interp.crossvalidate(pts, vals))
-        res2, t2 = timed(lambda pts=pts, vals=vals: interp.crossvalidate(pts, vals, order=2))
+        t1, res1 = best_with_result(lambda pts=pts, vals=vals: interp.crossvalidate(pts, vals), 1)
+        t2, res2 = best_with_result(
+            lambda pts=pts, vals=vals: interp.crossvalidate(pts, vals, order=2), 1
+        )
         # the leftmost point is a vertex of the hull: its residual must be NaN in both
         sample = np.append(np.argmin(pts[:, 0]), rng.choice(size, check, replace=False))
         ref1, tb1 = _brute_linear(pts, vals, sample)
         sample2 = sample[:check_p2]
-        ref2, tb2 = timed(lambda pts=pts, vals=vals, s=sample2: _brute_fit(pts, vals, s))
+        tb2, ref2 = best_with_result(
+            lambda pts=pts, vals=vals, s=sample2: _brute_fit(pts, vals, s), 1
+        )
         case = {
             "points": size,
             "p1_seconds": t1,
@@ -89,7 +86,7 @@ def _brute_linear(
     seconds = 0.0
     for j, i in enumerate(sample):
         others = np.arange(len(pts)) != i
-        tri, t = timed(lambda others=others: Delaunay(pts[others]))
+        t, tri = best_with_result(lambda others=others: Delaunay(pts[others]), 1)
         seconds += t
         out[j] = vals[i] - LinearNDInterpolator(tri, vals[others])(pts[i : i + 1])[0]
     return out, seconds

@@ -167,3 +167,27 @@ def test_view_writes_png(survey):
 
     img = imread(d / "v.png")
     assert img.shape[:2] == (900, 1200) and img.std() > 0.02
+
+
+def test_boundary_keeps_the_holes_of_the_polygon_file(survey):
+    # reference: shapely, the triangulated area kept is that of the cells whose centroid
+    # lies in the rectangle less its hole
+    import shapely
+    from scipy.spatial import Delaunay
+
+    d, xy, _ = survey
+    (d / "holed.csv").write_text(
+        "x,y,ring\n5,5,0\n45,5,0\n45,25,0\n5,25,0\n20,10,1\n30,10,1\n30,20,1\n20,20,1\n"
+    )
+    r = run("info", d / "s.csv", "--boundary", d / "holed.csv", "--json")
+    assert r.returncode == 0, r.stderr
+    tri = Delaunay(xy)
+    corners = xy[tri.simplices]
+    centroid = corners.mean(axis=1)
+    region = shapely.Polygon(
+        [[5, 5], [45, 5], [45, 25], [5, 25]], [[[20, 10], [30, 10], [30, 20], [20, 20]]]
+    )
+    keep = shapely.contains_xy(region, centroid[:, 0], centroid[:, 1])
+    e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
+    area = np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]) / 2
+    assert json.loads(r.stdout)["measure"] == pytest.approx(area[keep].sum(), rel=1e-9)

@@ -115,3 +115,14 @@ def test_grid_scan_equals_point_location(rng, d):
     np.testing.assert_array_equal(loc_grid.cells, loc.cells)
     np.testing.assert_array_equal(loc_grid.bary, loc.bary)
     np.testing.assert_array_equal(g.values.ravel(), f(g.points()))
+
+
+def test_bounds_as_a_two_row_array_like_mesh_bounds():
+    f = Field(interp.triangulate(np.array([[0.0, 0], [4, 0], [0, 3], [4, 3]])), [0, 4, 3, 7.0])
+    flat = to_grid(f, spacing=1.0, bounds=(0, 2, 1, 3))
+    rows = to_grid(f, spacing=1.0, bounds=np.array([[0, 1], [2, 3]]))
+    assert rows.shape == flat.shape == (3, 3)
+    np.testing.assert_array_equal(rows.values, flat.values)
+    assert to_grid(f, spacing=1.0, bounds=f.mesh.bounds).shape == (5, 4)
+    with pytest.raises(InterpError, match=r"shape \(2, 2\)"):
+        to_grid(f, spacing=1.0, bounds=np.zeros((4, 1)))

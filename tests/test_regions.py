@@ -4,8 +4,6 @@ reference library for planar geometry)."""
 import numpy as np
 import pytest
 import shapely
-from hypothesis import given, settings
-from hypothesis import strategies as st
 
 from interp import (
     Box,
@@ -17,7 +15,6 @@ from interp import (
     Polygon,
     triangulate,
 )
-from interp.polygon import first_crossing
 
 
 def star(n, center=(0.0, 0.0), radius=1.0, wobble=0.35, lobes=5, phase=0.0):
@@ -46,17 +43,6 @@ def test_contains_matches_shapely_away_from_the_boundary():
     expect = shapely.contains_xy(ref, pts[:, 0], pts[:, 1])  # reference: shapely
     assert np.array_equal(poly.contains(pts)[far], expect[far])
     assert expect.any() and not expect.all()
-
-
-@settings(max_examples=300, deadline=None)
-@given(st.lists(st.tuples(st.integers(0, 4), st.integers(0, 4)), min_size=3, max_size=8))
-def test_self_intersection_check_agrees_with_shapely(vertices):
-    ring = np.array(vertices, dtype=float)
-    ring = ring[np.any(ring != np.roll(ring, 1, axis=0), axis=1)]
-    if len(ring) < 3:
-        return
-    # reference: shapely's LinearRing.is_simple (integer vertices give many touching cases)
-    assert (first_crossing([ring]) is None) == shapely.LinearRing(ring).is_simple
 
 
 def test_self_intersecting_polygon_names_the_first_crossing_edges():

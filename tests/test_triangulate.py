@@ -196,3 +196,22 @@ def test_merge_duplicates_matches_numpy_unique_rows(pts):
     np.testing.assert_array_equal(uniq, pts[np.sort(first)])
     np.testing.assert_array_equal(uniq[inverse], pts)
     assert inverse.dtype == np.int64
+
+
+def test_boundary_polygon_with_a_hole_drops_cells_by_centroid():
+    # reference: shapely tests each kept cell's centroid against the polygon with its hole
+    import shapely
+
+    from interp import Polygon
+
+    pts = np.random.default_rng(4).random((300, 2)) * 10
+    square = [[1, 1], [9, 1], [9, 9], [1, 9]]
+    hole = [[4, 4], [6, 4], [6, 6], [4, 6]]
+    full = triangulate(pts)
+    kept = triangulate(pts, boundary=Polygon(square, [hole]))
+    centroids = full.points[full.cells].mean(axis=1)
+    expect = shapely.contains_xy(shapely.Polygon(square, [hole]), centroids[:, 0], centroids[:, 1])
+    assert kept.n_cells == int(expect.sum())
+    np.testing.assert_array_equal(kept.cells, full.cells[expect])
+    # one ring keeps the hole's cells
+    assert triangulate(pts, boundary=square).n_cells > kept.n_cells

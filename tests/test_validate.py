@@ -210,3 +210,41 @@ def test_residual_summary():
         residual_summary(pts, np.zeros((4, 2)))
     with pytest.raises(InterpError, match="worst"):
         residual_summary(pts, np.zeros(4), worst=-1)
+
+
+def test_boundary_with_a_hole_equals_brute_force_scipy_and_shapely(rng):
+    # reference: scipy Delaunay of the others; the prediction is NaN where the centroid of
+    # the cell holding the point is outside the polygon, tested with shapely
+    import shapely
+
+    from interp import Polygon
+
+    pts = rng.random((150, 2)) * 4
+    vals = np.cos(pts[:, 0]) + pts[:, 1]
+    square = [[0.2, 0.2], [3.8, 0.2], [3.8, 3.8], [0.2, 3.8]]
+    hole = [[1.5, 1.5], [2.5, 1.5], [2.5, 2.5], [1.5, 2.5]]
+    region = shapely.Polygon(square, [hole])
+    got = crossvalidate(pts, vals, boundary=Polygon(square, [hole]))
+    expected = np.full(len(pts), np.nan)
+    for i in range(len(pts)):
+        others = np.arange(len(pts)) != i
+        tri = Delaunay(pts[others])
+        cell = tri.find_simplex(pts[i : i + 1])[0]
+        if cell < 0:
+            continue
+        centroid = tri.points[tri.simplices[cell]].mean(axis=0)
+        if not shapely.contains_xy(region, *centroid):
+            continue
+        expected[i] = vals[i] - LinearNDInterpolator(tri, vals[others])(pts[i : i + 1])[0]
+    assert np.isnan(expected).sum() > np.isnan(crossvalidate(pts, vals)).sum() + 5
+    assert_same(got, expected)
+    # the same mask as fit(boundary=) refitted without each point
+    poly = Polygon(square, [hole])
+    ref = np.array(
+        [
+            vals[i]
+            - fit(np.delete(pts, i, 0), np.delete(vals, i), boundary=poly)(pts[i : i + 1])[0]
+            for i in range(0, len(pts), 5)
+        ]
+    )
+    assert_same(got[::5], ref)
