@@ -346,7 +346,9 @@ def _node_gradient(
         return
     ring1 = count
     members[1:count].sort()
-    if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+    if not _one_sided(x, node, members, count) and (
+        _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND
+    ):
         return
     for r in range(1, ring1):
         count = _add_ring(
@@ -357,6 +359,49 @@ def _node_gradient(
         return
     if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
         grad[:] = np.nan
+
+
+@numba.njit(cache=True, nogil=True)
+def _one_sided(x, node, members, count):  # pragma: no cover
+    """True when the ``members`` lie on one side of a plane (2D: line, 1D: point) through ``node``.
+
+    Such a node is on the hull of its neighbours: on the hull of the data or
+    at the edge of a masked gap.  If a supporting plane through the node
+    exists, one also exists through the node and d - 1 members (a facet of
+    the cone the members span), so those planes are the ones tried; a
+    member within a relative 1e-10 of a plane counts as on either side.
+    """
+    d = x.shape[1]
+    y = np.empty((count - 1, d))
+    for r in range(1, count):
+        for k in range(d):
+            y[r - 1, k] = x[members[r], k] - x[node, k]
+    normal = np.empty(d)
+    m = count - 1
+    for j in range(m if d > 1 else 1):
+        for k in range(j + 1 if d == 3 else m, m if d == 3 else m + 1):
+            if d == 1:
+                normal[0] = 1.0
+            elif d == 2:
+                normal[0], normal[1] = -y[j, 1], y[j, 0]
+            else:
+                normal[0] = y[j, 1] * y[k, 2] - y[j, 2] * y[k, 1]
+                normal[1] = y[j, 2] * y[k, 0] - y[j, 0] * y[k, 2]
+                normal[2] = y[j, 0] * y[k, 1] - y[j, 1] * y[k, 0]
+            size = np.sqrt(np.sum(normal**2))
+            if size == 0.0:
+                continue
+            above = below = False
+            for r in range(m):
+                s = np.dot(normal, y[r])
+                tol = 1e-10 * size * np.sqrt(np.sum(y[r] ** 2))
+                above |= s > tol
+                below |= s < -tol
+                if above and below:
+                    break
+            if not (above and below):
+                return True
+    return False
 
 
 @numba.njit(cache=True, nogil=True)
