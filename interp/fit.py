@@ -7,7 +7,8 @@ from gradients recovered at the two end nodes:
 * at every node a full quadratic (3, 6 or 10 coefficients in 1D, 2D, 3D) is
   fitted by least squares to the node and its neighbours in the
   triangulation (the 1-ring; the 2-ring where the 1-ring has fewer points
-  than coefficients or the fit is ill-conditioned), in coordinates centred
+  than coefficients, lies on one side of a plane through the node, or the
+  fit is ill-conditioned), in coordinates centred
   on the node and scaled by the farthest neighbour, with columns scaled to
   unit length and solved by Householder QR with column pivoting;
 * the midpoint of edge (a, b) gets
@@ -20,6 +21,14 @@ from gradients recovered at the two end nodes:
   f'(0) / 2 + c / 4 = (f(0) + f(1)) / 2 - c / 4, and -c / 4 = (f'(0) -
   f'(1)) / 8 is the second term: the formula gives the midpoint value of
   any quadratic along the edge when the gradients are exact.
+
+A node on the hull of the data (or at the edge of a masked gap) sees its
+1-ring from one side only: there the 1-ring often has exactly as many points
+as coefficients, three of them on the hull's edge, and the fit interpolates
+rather than smooths.  Its error is then amplified by a conditioning that
+worsens as more such nodes are drawn, and the maximum error of the field
+stops falling like h^3.  Those nodes go to the 2-ring, whose least-squares
+fit keeps the gradient error O(h^2) as in the interior.
 
 Where even the 2-ring cannot carry a quadratic (tiny data sets, a node whose
 2-ring is nearly on a conic) the gradient comes from a linear least-squares
@@ -327,6 +336,9 @@ def _node_gradient(
 ):  # pragma: no cover
     """Recovered gradient (d, c) at ``node``: quadratic fit on the 1-ring, else 2-ring, else linear.
 
+    The 1-ring fit is skipped when the 1-ring lies on one side of a plane
+    through the node (see :func:`_one_sided`).
+
     The neighbours of vertex q are ``over_idx[over_ptr[j]:over_ptr[j + 1]]`` when
     ``over_node[j] == q`` and ``idx[ptr[q]:ptr[q + 1]]`` otherwise.  ``mark``
     (n,) and ``members`` (n,) are scratch; ``stamp`` must differ from every
@@ -368,40 +380,49 @@ def _one_sided(x, node, members, count):  # pragma: no cover
     Such a node is on the hull of its neighbours: on the hull of the data or
     at the edge of a masked gap.  If a supporting plane through the node
     exists, one also exists through the node and d - 1 members (a facet of
-    the cone the members span), so those planes are the ones tried; a
-    member within a relative 1e-10 of a plane counts as on either side.
+    the cone the members span), so those are the planes tried.
     """
-    d = x.shape[1]
-    y = np.empty((count - 1, d))
-    for r in range(1, count):
-        for k in range(d):
-            y[r - 1, k] = x[members[r], k] - x[node, k]
-    normal = np.empty(d)
-    m = count - 1
-    for j in range(m if d > 1 else 1):
-        for k in range(j + 1 if d == 3 else m, m if d == 3 else m + 1):
-            if d == 1:
-                normal[0] = 1.0
-            elif d == 2:
-                normal[0], normal[1] = -y[j, 1], y[j, 0]
-            else:
-                normal[0] = y[j, 1] * y[k, 2] - y[j, 2] * y[k, 1]
-                normal[1] = y[j, 2] * y[k, 0] - y[j, 0] * y[k, 2]
-                normal[2] = y[j, 0] * y[k, 1] - y[j, 1] * y[k, 0]
-            size = np.sqrt(np.sum(normal**2))
-            if size == 0.0:
-                continue
-            above = below = False
-            for r in range(m):
-                s = np.dot(normal, y[r])
-                tol = 1e-10 * size * np.sqrt(np.sum(y[r] ** 2))
-                above |= s > tol
-                below |= s < -tol
-                if above and below:
-                    break
-            if not (above and below):
+    d, m = x.shape[1], count - 1
+    y = np.empty((m, d))
+    for r in range(m):
+        y[r] = x[members[r + 1]] - x[node]
+    normal = np.ones(d)
+    if d == 1:
+        return _supports(normal, y)
+    for j in range(m):
+        if d == 2:
+            normal[0], normal[1] = -y[j, 1], y[j, 0]
+            if _supports(normal, y):
+                return True
+            continue
+        for k in range(j + 1, m):
+            normal[0] = y[j, 1] * y[k, 2] - y[j, 2] * y[k, 1]
+            normal[1] = y[j, 2] * y[k, 0] - y[j, 0] * y[k, 2]
+            normal[2] = y[j, 0] * y[k, 1] - y[j, 1] * y[k, 0]
+            if _supports(normal, y):
                 return True
     return False
+
+
+@numba.njit(cache=True, nogil=True)
+def _supports(normal, y):  # pragma: no cover
+    """True when every row of ``y`` is on one side of the plane through 0 normal to ``normal``.
+
+    A row within a relative 1e-10 of the plane counts as on either side; a
+    zero normal (members in line with the node) supports nothing.
+    """
+    size = np.sqrt(np.sum(normal**2))
+    if size == 0.0:
+        return False
+    above = below = False
+    for r in range(y.shape[0]):
+        s = np.dot(normal, y[r])
+        tol = 1e-10 * size * np.sqrt(np.sum(y[r] ** 2))
+        above |= s > tol
+        below |= s < -tol
+        if above and below:
+            return False
+    return True
 
 
 @numba.njit(cache=True, nogil=True)
