@@ -25,9 +25,9 @@ from gradients recovered at the two end nodes:
 A node on the hull of the data (or at the edge of a masked gap) sees its
 1-ring from one side only: there the 1-ring often has exactly as many points
 as coefficients, three of them on the hull's edge, and the fit interpolates
-rather than smooths.  Its error is then amplified by a conditioning that
-worsens as more such nodes are drawn, and the maximum error of the field
-stops falling like h^3.  Those nodes go to the 2-ring, whose least-squares
+rather than smooths.  Its gradient error is amplified by the conditioning of
+that fit, the worst of the hull nodes gets worse as the mesh is refined and
+has more of them, and the maximum error of the field stops falling like h^3.  Those nodes go to the 2-ring, whose least-squares
 fit keeps the gradient error O(h^2) as in the interior.
 
 Where even the 2-ring cannot carry a quadratic (tiny data sets, a node whose
