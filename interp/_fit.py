@@ -7,7 +7,8 @@ from gradients recovered at the two end nodes:
 * at every node a full quadratic (3, 6 or 10 coefficients in 1D, 2D, 3D) is
   fitted by least squares to the node and its neighbours in the
   triangulation (the 1-ring; the 2-ring where the 1-ring has fewer points
-  than coefficients or the fit is ill-conditioned), in coordinates centred
+  than coefficients, lies on one side of a plane through the node, or the
+  fit is ill-conditioned), in coordinates centred
   on the node and scaled by the farthest neighbour, with columns scaled to
   unit length and solved by Householder QR with column pivoting;
 * the midpoint of edge (a, b) gets
@@ -20,6 +21,15 @@ from gradients recovered at the two end nodes:
   f'(0) / 2 + c / 4 = (f(0) + f(1)) / 2 - c / 4, and -c / 4 = (f'(0) -
   f'(1)) / 8 is the second term: the formula gives the midpoint value of
   any quadratic along the edge when the gradients are exact.
+
+A node on the hull of the data (or at the edge of a masked gap) sees its
+1-ring from one side only: there the 1-ring often has exactly as many points
+as coefficients, three of them on the hull's edge, and the fit interpolates
+rather than smooths.  Its gradient error is amplified by the conditioning of
+that fit, the worst of the hull nodes gets worse as the mesh is refined and
+has more of them, and the maximum error of the field stops falling like
+h^3.  Those nodes go to the 2-ring, whose least-squares fit keeps the
+gradient error O(h^2) as in the interior.
 
 Where even the 2-ring cannot carry a quadratic (tiny data sets, a node whose
 2-ring is nearly on a conic) the gradient comes from a linear least-squares

@@ -78,6 +78,9 @@ BIN_SLACK = 1e-9
 MIN_RCOND = 1e-3
 #: the same for the linear fallback fit, which only has to be of full rank.
 MIN_RCOND_LINEAR = 1e-14
+#: relative distance from a plane within which a neighbour counts as on either side of it,
+#: when gradient recovery asks whether a node sees its 1-ring from one side only.
+ONE_SIDED = 1e-10
 
 
 def is_flat(vol: np.ndarray, size: np.ndarray, dim: int) -> np.ndarray:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR
+from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR, ONE_SIDED
 
 
 @numba.njit(cache=True, nogil=True)
@@ -23,6 +23,9 @@ def _node_gradient(
     node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
 ):  # pragma: no cover
     """Recovered gradient (d, c) at ``node``: quadratic fit on the 1-ring, else 2-ring, else linear.
+
+    The 1-ring fit is skipped when the 1-ring lies on one side of a plane
+    through the node (see :func:`_one_sided`).
 
     The neighbours of vertex q are ``over_idx[over_ptr[j]:over_ptr[j + 1]]`` when
     ``over_node[j] == q`` and ``idx[ptr[q]:ptr[q + 1]]`` otherwise.  ``mark``
@@ -43,7 +46,9 @@ def _node_gradient(
         return
     ring1 = count
     members[1:count].sort()
-    if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+    if not _one_sided(x, node, members, count) and (
+        _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND
+    ):
         return
     for r in range(1, ring1):
         count = _add_ring(
@@ -54,6 +59,58 @@ def _node_gradient(
         return
     if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
         grad[:] = np.nan
+
+
+@numba.njit(cache=True, nogil=True)
+def _one_sided(x, node, members, count):  # pragma: no cover
+    """True when the ``members`` lie on one side of a plane (2D: line, 1D: point) through ``node``.
+
+    Such a node is on the hull of its neighbours: on the hull of the data or
+    at the edge of a masked gap.  If a supporting plane through the node
+    exists, one also exists through the node and d - 1 members (a facet of
+    the cone the members span), so those are the planes tried.
+    """
+    d, m = x.shape[1], count - 1
+    y = np.empty((m, d))
+    for r in range(m):
+        y[r] = x[members[r + 1]] - x[node]
+    normal = np.ones(d)
+    if d == 1:
+        return _supports(normal, y)
+    for j in range(m):
+        if d == 2:
+            normal[0], normal[1] = -y[j, 1], y[j, 0]
+            if _supports(normal, y):
+                return True
+            continue
+        for k in range(j + 1, m):
+            normal[0] = y[j, 1] * y[k, 2] - y[j, 2] * y[k, 1]
+            normal[1] = y[j, 2] * y[k, 0] - y[j, 0] * y[k, 2]
+            normal[2] = y[j, 0] * y[k, 1] - y[j, 1] * y[k, 0]
+            if _supports(normal, y):
+                return True
+    return False
+
+
+@numba.njit(cache=True, nogil=True)
+def _supports(normal, y):  # pragma: no cover
+    """True when every row of ``y`` is on one side of the plane through 0 normal to ``normal``.
+
+    A row within a relative ``ONE_SIDED`` of the plane counts as on either side; a
+    zero normal (members in line with the node) supports nothing.
+    """
+    size = np.sqrt(np.sum(normal**2))
+    if size == 0.0:
+        return False
+    above = below = False
+    for r in range(y.shape[0]):
+        s = np.dot(normal, y[r])
+        tol = ONE_SIDED * size * np.sqrt(np.sum(y[r] ** 2))
+        above |= s > tol
+        below |= s < -tol
+        if above and below:
+            return False
+    return True
 
 
 @numba.njit(cache=True, nogil=True)
