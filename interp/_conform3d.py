@@ -1,0 +1,87 @@
+"""Face-to-face 3D Delaunay triangulations where points are cospherical (lattices).
+
+Where more than four points lie on one empty sphere, as the eight corners of
+each cube of a lattice do, the Delaunay cell is a polytope and any
+triangulation of it is Delaunay.  Qhull triangulates each such cell on its own
+and bridges the faces that two cells split differently with zero-volume
+tetrahedra; once those are dropped the mesh is no longer face-to-face and a P1
+field jumps across the faces.  :func:`conform` triangulates every such cell
+again by a pulling triangulation in the global vertex order: the lowest vertex
+of the cell is coned to each boundary facet not containing it, and each facet
+is fanned from its own lowest vertex.  A face's split then depends on the face
+and the vertex order alone, so both cells that share it agree (the pulling
+triangulations of a polyhedral complex form a triangulation of it: De Loera,
+Rambau, Santos, "Triangulations", 2010, from memory).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from interp._kernels import conform3d as kernels
+from interp.mesh import is_flat, simplex_geometry
+
+
+def conform(
+    points: np.ndarray,
+    x: np.ndarray,
+    cells: np.ndarray,
+    vol: np.ndarray,
+    size: np.ndarray,
+    neighbors: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Triangulate again, face to face, the Delaunay cells of cospherical points.
+
+    Parameters
+    ----------
+    points : ndarray (n, 3)
+        The coordinates the exact predicates decide on (the caller's own).
+    x : ndarray (n, 3)
+        The same points as measured: ``vol`` and ``size`` are
+        :func:`~interp.mesh.simplex_geometry` of ``x[cells]``, and so are those
+        of the new cells.
+    cells, neighbors : ndarray (m, 4) int64
+        Qhull's tetrahedra and, for each, the tetrahedron across the face
+        opposite each vertex (-1 on the hull).
+    vol, size : ndarray (m,)
+
+    Returns
+    -------
+    cells, vol, size
+        Unchanged when no tetrahedron is flat (points in general position).
+        Otherwise every cluster of tetrahedra with one circumsphere is replaced
+        by its pulling triangulation; flat tetrahedra stay, for the caller to
+        drop and report.
+
+    Examples
+    --------
+    A 2 x 2 x 2 block of cubes, on which Qhull emits 12 flat tetrahedra:
+
+    >>> import itertools
+    >>> from scipy.spatial import Delaunay
+    >>> p = np.array(list(itertools.product([0.0, 1, 2], repeat=3)))
+    >>> tri = Delaunay(p)
+    >>> cells = tri.simplices.astype(np.int64)
+    >>> vol, size = simplex_geometry(p[cells])
+    >>> c, v, s = conform(p, p, cells, vol, size, tri.neighbors.astype(np.int64))
+    >>> int((~is_flat(v, s, 3)).sum()), float(v.sum())
+    (48, 8.0)
+    """
+    flat = is_flat(vol, size, 3)
+    if not flat.any():
+        return cells, vol, size
+    root = kernels.cospherical_clusters(points, cells, flat, neighbors)
+    count = np.bincount(root[~flat], minlength=len(cells))
+    grouped = np.flatnonzero(~flat & (count[np.maximum(root, 0)] > 1))
+    members = grouped[np.argsort(root[grouped], kind="stable")]
+    first = np.flatnonzero(np.diff(root[members], prepend=-1))
+    starts = np.append(first, members.size)
+    new, done = kernels.pulling(points, cells, members, starts)
+    keep = np.ones(len(cells), dtype=bool)
+    keep[members[np.repeat(done, np.diff(starts))]] = False
+    new_vol, new_size = simplex_geometry(x[new])
+    return (
+        np.concatenate([cells[keep], new]),
+        np.concatenate([vol[keep], new_vol]),
+        np.concatenate([size[keep], new_size]),
+    )

@@ -1,0 +1,179 @@
+"""Kernels that make a 3D Delaunay triangulation of cospherical points face-to-face.
+
+Qhull triangulates each Delaunay cell (a polytope whose vertices lie on one
+empty sphere) on its own and bridges disagreeing splits of a shared face with
+zero-volume tetrahedra.  These kernels group the tetrahedra of each cell
+(:func:`cospherical_clusters`) and triangulate every cell again by one rule
+that depends only on the global vertex order (:func:`pulling`), so two cells
+split the face they share the same way.  Every decision is an exact predicate.
+"""
+
+import numba
+import numpy as np
+
+from interp._kernels.predicates import insphere, orient3d
+
+
+@numba.njit(cache=True, nogil=True)
+def _root(parent, i):  # pragma: no cover
+    """Root of ``i`` in a union-find forest, halving the path on the way."""
+    while parent[i] != i:
+        parent[i] = parent[parent[i]]
+        i = parent[i]
+    return i
+
+
+@numba.njit(cache=True, nogil=True)
+def cospherical_clusters(points, cells, flat, neighbors):  # pragma: no cover
+    """Cluster root of each tetrahedron (-1 for flat ones).
+
+    Two tetrahedra that are not flat and share a face belong to one cluster
+    when the vertex of one opposite that face lies exactly on the other's
+    circumsphere (``insphere == 0``): they are pieces of one Delaunay cell.
+    ``neighbors[t, j]`` is the cell across the face opposite vertex ``j`` of
+    ``t`` (-1 on the hull), as Qhull gives it.
+    """
+    m = cells.shape[0]
+    parent = np.arange(m)
+    for t in range(m):
+        if flat[t]:
+            continue
+        a = points[cells[t, 0]]
+        b = points[cells[t, 1]]
+        c = points[cells[t, 2]]
+        d = points[cells[t, 3]]
+        for j in range(4):
+            u = neighbors[t, j]
+            if u <= t or flat[u]:
+                continue
+            rt = _root(parent, t)
+            ru = _root(parent, u)
+            if rt == ru:
+                continue
+            e = -1
+            for k in range(4):
+                if neighbors[u, k] == t:
+                    e = cells[u, k]
+            if insphere(a, b, c, d, points[e]) == 0.0:
+                parent[max(rt, ru)] = min(rt, ru)
+    root = np.empty(m, dtype=np.int64)
+    for t in range(m):
+        root[t] = -1 if flat[t] else _root(parent, t)
+    return root
+
+
+@numba.njit(cache=True, nogil=True)
+def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
+    """Pulling triangulation of the convex polytope tiled by the tetrahedra
+    ``corners`` (t, 4), written to ``out`` from row ``n_out``.
+
+    The polytope's lowest vertex v0 is coned to every boundary facet that does
+    not contain it; each such facet (a planar polygon: coplanar boundary
+    triangles joined across their edges) is fanned from its own lowest vertex.
+    Returns the new row count, or -1 when the boundary is not a closed surface
+    (the tetrahedra do not tile one polytope); ``out`` is then left as it was
+    up to ``n_out``.
+    """
+    t = corners.shape[0]
+    verts = np.unique(corners)  # ascending: local order is the global order
+    k = verts.size
+    local = np.searchsorted(verts, corners)
+    # faces of the tetrahedra; those used once are the boundary
+    keys = np.empty(4 * t, dtype=np.int64)
+    tri = np.empty((4 * t, 3), dtype=np.int64)
+    for i in range(t):
+        for j in range(4):
+            f = 4 * i + j
+            n = 0
+            for q in range(4):
+                if q != j:
+                    tri[f, n] = local[i, q]
+                    n += 1
+            tri[f].sort()
+            keys[f] = (tri[f, 0] * k + tri[f, 1]) * k + tri[f, 2]
+    order = np.argsort(keys)
+    boundary = np.empty((4 * t, 3), dtype=np.int64)
+    nb = 0
+    i = 0
+    while i < 4 * t:
+        j = i
+        while j + 1 < 4 * t and keys[order[j + 1]] == keys[order[i]]:
+            j += 1
+        if j - i > 1:
+            return -1
+        if j == i:
+            boundary[nb] = tri[order[i]]
+            nb += 1
+        i = j + 1
+    # edges of the boundary triangles: each must join exactly two of them
+    ekeys = np.empty(3 * nb, dtype=np.int64)
+    for p in range(nb):
+        for j in range(3):
+            u = boundary[p, j]
+            w = boundary[p, (j + 1) % 3]
+            ekeys[3 * p + j] = min(u, w) * k + max(u, w)
+    eorder = np.argsort(ekeys)
+    if nb % 2 == 1:
+        return -1
+    for i in range(0, 3 * nb, 2):
+        if ekeys[eorder[i]] != ekeys[eorder[i + 1]]:
+            return -1
+        if i + 2 < 3 * nb and ekeys[eorder[i + 2]] == ekeys[eorder[i]]:
+            return -1
+    # facets: boundary triangles joined across edges where they are coplanar
+    parent = np.arange(nb)
+    for i in range(0, 3 * nb, 2):
+        p = eorder[i] // 3
+        q = eorder[i + 1] // 3
+        r = boundary[q, 0] + boundary[q, 1] + boundary[q, 2] - ekeys[eorder[i]] // k
+        r -= ekeys[eorder[i]] % k
+        rp = _root(parent, p)
+        rq = _root(parent, q)
+        if rp != rq:
+            a = points[verts[boundary[p, 0]]]
+            b = points[verts[boundary[p, 1]]]
+            c = points[verts[boundary[p, 2]]]
+            if orient3d(a, b, c, points[verts[r]]) == 0.0:
+                parent[max(rp, rq)] = min(rp, rq)
+    lowest = np.full(nb, k, dtype=np.int64)
+    for p in range(nb):
+        rp = _root(parent, p)
+        lowest[rp] = min(lowest[rp], boundary[p, 0], boundary[p, 1], boundary[p, 2])
+    # an edge between two facets is a polygon side of each: fan it from the
+    # facet's lowest vertex, cone the triangle to v0 (local vertex 0)
+    for i in range(0, 3 * nb, 2):
+        fp = _root(parent, eorder[i] // 3)
+        fq = _root(parent, eorder[i + 1] // 3)
+        if fp == fq:
+            continue
+        u = ekeys[eorder[i]] // k
+        w = ekeys[eorder[i]] % k
+        for f in (fp, fq):
+            low = lowest[f]
+            if low != 0 and u != low and w != low:
+                out[n_out, 0] = verts[0]
+                out[n_out, 1] = verts[low]
+                out[n_out, 2] = verts[u]
+                out[n_out, 3] = verts[w]
+                n_out += 1
+    return n_out
+
+
+@numba.njit(cache=True, nogil=True)
+def pulling(points, cells, members, starts):  # pragma: no cover
+    """Pulling triangulations of clusters of tetrahedra.
+
+    Cluster ``c`` is the cells ``members[starts[c]:starts[c + 1]]``.  Returns
+    the new tetrahedra and, per cluster, whether it was triangulated again
+    (False when its boundary is not a closed surface; its cells stay).
+    """
+    out = np.empty((4 * members.size, 4), dtype=np.int64)
+    done = np.zeros(starts.size - 1, dtype=np.bool_)
+    n_out = 0
+    for c in range(starts.size - 1):
+        corners = cells[members[starts[c] : starts[c + 1]]]
+        n = _pull_cluster(points, corners, out, n_out)
+        if n >= 0:
+            n_out = n
+            done[c] = True
+    return out[:n_out].copy(), done
