@@ -55,7 +55,7 @@ def conform(
 
     Examples
     --------
-    A 2 x 2 x 2 block of cubes, on which Qhull emits 12 flat tetrahedra:
+    A 2 x 2 x 2 block of cubes, on which Qhull emits flat tetrahedra:
 
     >>> import itertools
     >>> from scipy.spatial import Delaunay
