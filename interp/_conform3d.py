@@ -29,6 +29,7 @@ def conform(
     vol: np.ndarray,
     size: np.ndarray,
     neighbors: np.ndarray,
+    planes: np.ndarray,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Triangulate again, face to face, the Delaunay cells of cospherical points.
 
@@ -44,14 +45,18 @@ def conform(
         Qhull's tetrahedra and, for each, the tetrahedron across the face
         opposite each vertex (-1 on the hull).
     vol, size : ndarray (m,)
+    planes : ndarray (m, 5)
+        The hyperplane of the lifted lower-hull facet each tetrahedron comes
+        from (scipy's ``Delaunay.equations``): equal rows mark the pieces of
+        one Delaunay cell as Qhull merged it.
 
     Returns
     -------
     cells, vol, size
         Unchanged when no tetrahedron is flat (points in general position).
-        Otherwise every cluster of tetrahedra with one circumsphere is replaced
-        by its pulling triangulation; flat tetrahedra stay, for the caller to
-        drop and report.
+        Otherwise the tetrahedra of every Delaunay cell with more than four
+        vertices are replaced by the cell's pulling triangulation; flat
+        tetrahedra stay, for the caller to drop and report.
 
     Examples
     --------
@@ -63,20 +68,21 @@ def conform(
     >>> tri = Delaunay(p)
     >>> cells = tri.simplices.astype(np.int64)
     >>> vol, size = simplex_geometry(p[cells])
-    >>> c, v, s = conform(p, p, cells, vol, size, tri.neighbors.astype(np.int64))
+    >>> nbr = tri.neighbors.astype(np.int64)
+    >>> c, v, s = conform(p, p, cells, vol, size, nbr, tri.equations)
     >>> int((~is_flat(v, s, 3)).sum()), float(v.sum())
     (48, 8.0)
     """
     flat = is_flat(vol, size, 3)
     if not flat.any():
         return cells, vol, size
-    root = kernels.cospherical_clusters(points, cells, flat, neighbors)
+    root, across = kernels.clusters(cells, flat, neighbors, planes)
     count = np.bincount(root[~flat], minlength=len(cells))
     grouped = np.flatnonzero(~flat & (count[np.maximum(root, 0)] > 1))
     members = grouped[np.argsort(root[grouped], kind="stable")]
     first = np.flatnonzero(np.diff(root[members], prepend=-1))
     starts = np.append(first, members.size)
-    new, done = kernels.pulling(points, cells, members, starts)
+    new, done = kernels.pulling(points, cells, across, members, starts)
     keep = np.ones(len(cells), dtype=bool)
     keep[members[np.repeat(done, np.diff(starts))]] = False
     new_vol, new_size = simplex_geometry(x[new])

@@ -113,10 +113,10 @@ def triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells, neighbors, every_vertex = _delaunay(x)
+    cells, qhull, every_vertex = _delaunay(x)
     vol, size = simplex_geometry(x[cells])
     if d == 3:  # cospherical points (a lattice): cells split alike from both sides
-        cells, vol, size = conform(pts, x, cells, vol, size, neighbors)
+        cells, vol, size = conform(pts, x, cells, vol, size, *qhull)
     cells, vol, size = _drop_flat(cells, vol, size)
     if every_vertex:
         uniq, inverse = pts.copy(), None  # the mesh owns its nodes
@@ -224,10 +224,10 @@ def _flat(x: np.ndarray) -> bool:
     return bool(sv[-1] <= 1e-10 * sv[0])
 
 
-def _delaunay(x: np.ndarray) -> tuple[np.ndarray, np.ndarray | None, bool]:
-    """Delaunay cells of normalised points, the cell across each cell's faces
-    (none in 1D), and whether every point is a vertex (when not, some may be
-    duplicates)."""
+def _delaunay(x: np.ndarray) -> tuple[np.ndarray, tuple | None, bool]:
+    """Delaunay cells of normalised points; Qhull's cell across each cell's faces
+    and the lifted hyperplane of each (none in 1D); and whether every point is a
+    vertex (when not, some may be duplicates)."""
     d = x.shape[1]
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
@@ -238,7 +238,8 @@ def _delaunay(x: np.ndarray) -> tuple[np.ndarray, np.ndarray | None, bool]:
     except QhullError as exc:
         msg = str(exc).splitlines()[0]
         raise InterpError(f"Delaunay triangulation failed: {msg}") from None
-    return tri.simplices.astype(np.int64), tri.neighbors.astype(np.int64), len(tri.coplanar) == 0
+    qhull = (tri.neighbors.astype(np.int64), tri.equations)
+    return tri.simplices.astype(np.int64), qhull, len(tri.coplanar) == 0
 
 
 def _longest_edge(points: np.ndarray, cells: np.ndarray) -> np.ndarray:

@@ -220,7 +220,8 @@ def test_pulling_cones_each_cube_from_its_lowest_corner():
     tri = Delaunay(pts)
     cells = tri.simplices.astype(np.int64)
     members = np.arange(len(cells), dtype=np.int64)
-    new, done = kernels.pulling(pts, cells, members, np.array([0, len(cells)]))
+    hull = np.full(cells.shape, -1, dtype=np.int64)  # every face outside is on the hull
+    new, done = kernels.pulling(pts, cells, hull, members, np.array([0, len(cells)]))
     assert done.tolist() == [True]
     assert len(new) == 6 and (new[:, 0] == 0).all()
     vol, _ = simplex_geometry(pts[new])
@@ -232,7 +233,8 @@ def test_cluster_that_does_not_tile_a_polytope_is_kept():
     # surface (the edge joins four boundary triangles), so they are left as they are
     pts = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, -1], [1, -1, -1]])
     cells = np.array([[0, 1, 2, 3], [0, 1, 4, 5]], dtype=np.int64)
-    new, done = kernels.pulling(pts, cells, np.array([0, 1]), np.array([0, 2]))
+    hull = np.full(cells.shape, -1, dtype=np.int64)
+    new, done = kernels.pulling(pts, cells, hull, np.array([0, 1]), np.array([0, 2]))
     assert done.tolist() == [False] and len(new) == 0
 
 
@@ -241,5 +243,22 @@ def test_conform_leaves_general_position_alone(rng):
     tri = Delaunay(pts)
     cells = tri.simplices.astype(np.int64)
     vol, size = simplex_geometry(pts[cells])
-    out = conform(pts, pts, cells, vol, size, tri.neighbors.astype(np.int64))
+    out = conform(pts, pts, cells, vol, size, tri.neighbors.astype(np.int64), tri.equations)
     assert out[0] is cells and out[1] is vol and out[2] is size
+
+
+@pytest.mark.parametrize(
+    ("apex", "expected"),
+    [((0.3, 0.3, -1.0), [[0, 1, 2, 4], [0, 1, 3, 4], [0, 2, 3, 4]]), ((3.0, 3.0, -0.1), None)],
+)
+def test_pulling_a_bipyramid(apex, expected):
+    # two tetrahedra on the triangle 1, 2, 3 with apexes 0 and 4.  Worked out by hand:
+    # when the segment 0-4 crosses the triangle the union is convex, and pulling from
+    # vertex 0 cones it to the three faces around 4; when it does not, vertex 0 sees
+    # a face around 4 from behind, and the two tetrahedra are left as they are
+    pts = np.array([[0.2, 0.2, 1.0], [0, 0, 0], [1, 0, 0], [0, 1, 0], apex])
+    cells = np.array([[0, 1, 2, 3], [1, 2, 3, 4]], dtype=np.int64)
+    hull = np.full(cells.shape, -1, dtype=np.int64)
+    new, done = kernels.pulling(pts, cells, hull, np.array([0, 1]), np.array([0, 2]))
+    assert done.tolist() == [expected is not None]
+    assert np.sort(new, axis=1).tolist() == (expected or [])

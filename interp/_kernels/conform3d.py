@@ -3,15 +3,15 @@
 Qhull triangulates each Delaunay cell (a polytope whose vertices lie on one
 empty sphere) on its own and bridges disagreeing splits of a shared face with
 zero-volume tetrahedra.  These kernels group the tetrahedra of each cell
-(:func:`cospherical_clusters`) and triangulate every cell again by one rule
-that depends only on the global vertex order (:func:`pulling`), so two cells
-split the face they share the same way.  Every decision is an exact predicate.
+(:func:`clusters`) and triangulate every cell again by one rule that depends
+only on the global vertex order (:func:`pulling`), so two cells split the face
+they share the same way.  Geometric decisions are exact predicates.
 """
 
 import numba
 import numpy as np
 
-from interp._kernels.predicates import insphere, orient3d
+from interp._kernels.predicates import orient3d
 
 
 @numba.njit(cache=True, nogil=True)
@@ -24,55 +24,86 @@ def _root(parent, i):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def cospherical_clusters(points, cells, flat, neighbors):  # pragma: no cover
-    """Cluster root of each tetrahedron (-1 for flat ones).
+def clusters(cells, flat, neighbors, planes):  # pragma: no cover
+    """Cluster root of each tetrahedron (-1 for flat ones), and the cluster
+    across each face.
 
-    Two tetrahedra that are not flat and share a face belong to one cluster
-    when the vertex of one opposite that face lies exactly on the other's
-    circumsphere (``insphere == 0``): they are pieces of one Delaunay cell.
+    Qhull computes the Delaunay cells as facets of the lifted points' lower
+    hull; with triangulated output (scipy's) the tetrahedra of one facet keep
+    that facet's hyperplane, so two tetrahedra that share a face and the same
+    hyperplane row of ``planes`` (bit for bit) are pieces of one Delaunay cell.
     ``neighbors[t, j]`` is the cell across the face opposite vertex ``j`` of
     ``t`` (-1 on the hull), as Qhull gives it.
+
+    ``across[t, j]`` is the cluster on the other side of that face, found
+    through any flat tetrahedra Qhull put there, or -1 on the hull.
     """
     m = cells.shape[0]
     parent = np.arange(m)
     for t in range(m):
         if flat[t]:
             continue
-        a = points[cells[t, 0]]
-        b = points[cells[t, 1]]
-        c = points[cells[t, 2]]
-        d = points[cells[t, 3]]
         for j in range(4):
             u = neighbors[t, j]
             if u <= t or flat[u]:
                 continue
+            same = True
+            for q in range(planes.shape[1]):
+                same &= planes[t, q] == planes[u, q]
             rt = _root(parent, t)
             ru = _root(parent, u)
-            if rt == ru:
-                continue
-            e = -1
-            for k in range(4):
-                if neighbors[u, k] == t:
-                    e = cells[u, k]
-            if insphere(a, b, c, d, points[e]) == 0.0:
+            if same and rt != ru:
                 parent[max(rt, ru)] = min(rt, ru)
     root = np.empty(m, dtype=np.int64)
     for t in range(m):
         root[t] = -1 if flat[t] else _root(parent, t)
-    return root
+    across = np.full((m, 4), -1, dtype=np.int64)
+    seen = np.full(m, -1, dtype=np.int64)
+    stack = np.empty(m, dtype=np.int64)
+    for t in range(m):
+        if flat[t]:
+            continue
+        for j in range(4):
+            u = neighbors[t, j]
+            if u < 0 or not flat[u]:
+                across[t, j] = -1 if u < 0 else root[u]
+                continue
+            # through the flat cells reachable from u, to a cell of another cluster
+            mark = 4 * t + j
+            seen[u] = mark
+            stack[0] = u
+            n = 1
+            while n > 0 and across[t, j] < 0:
+                n -= 1
+                f = stack[n]
+                for q in range(4):
+                    g = neighbors[f, q]
+                    if g < 0 or seen[g] == mark:
+                        continue
+                    if not flat[g]:
+                        if root[g] != root[t]:
+                            across[t, j] = root[g]
+                    else:
+                        seen[g] = mark
+                        stack[n] = g
+                        n += 1
+    return root, across
 
 
 @numba.njit(cache=True, nogil=True)
-def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
+def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
     """Pulling triangulation of the convex polytope tiled by the tetrahedra
     ``corners`` (t, 4), written to ``out`` from row ``n_out``.
 
     The polytope's lowest vertex v0 is coned to every boundary facet that does
-    not contain it; each such facet (a planar polygon: coplanar boundary
-    triangles joined across their edges) is fanned from its own lowest vertex.
-    Returns the new row count, or -1 when the boundary is not a closed surface
-    (the tetrahedra do not tile one polytope); ``out`` is then left as it was
-    up to ``n_out``.
+    not contain it; each such facet (a planar polygon) is fanned from its own
+    lowest vertex.  A facet is the boundary triangles that face one
+    neighbouring cluster (``across``, per face opposite each corner: two convex
+    cells meet in one face), or, on the hull (-1), coplanar boundary triangles
+    joined across their edges (exact ``orient3d == 0``).  Returns the new row
+    count, or -1 when the tetrahedra do not tile one convex polytope (the
+    boundary is not a closed surface, or v0 is not strictly inside a facet's
+    plane); ``out`` is then left as it was up to ``n_out``.
     """
     t = corners.shape[0]
     verts = np.unique(corners)  # ascending: local order is the global order
@@ -93,6 +124,7 @@ def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
             keys[f] = (tri[f, 0] * k + tri[f, 1]) * k + tri[f, 2]
     order = np.argsort(keys)
     boundary = np.empty((4 * t, 3), dtype=np.int64)
+    side = np.empty(4 * t, dtype=np.int64)  # the face's own tetrahedron and corner
     nb = 0
     i = 0
     while i < 4 * t:
@@ -103,6 +135,7 @@ def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
             return -1
         if j == i:
             boundary[nb] = tri[order[i]]
+            side[nb] = order[i]
             nb += 1
         i = j + 1
     # edges of the boundary triangles: each must join exactly two of them
@@ -120,25 +153,45 @@ def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
             return -1
         if i + 2 < 3 * nb and ekeys[eorder[i + 2]] == ekeys[eorder[i]]:
             return -1
-    # facets: boundary triangles joined across edges where they are coplanar
+    # facets: boundary triangles facing one cluster, or coplanar on the hull
     parent = np.arange(nb)
     for i in range(0, 3 * nb, 2):
         p = eorder[i] // 3
         q = eorder[i + 1] // 3
-        r = boundary[q, 0] + boundary[q, 1] + boundary[q, 2] - ekeys[eorder[i]] // k
-        r -= ekeys[eorder[i]] % k
+        ap = across[side[p] // 4, side[p] % 4]
+        aq = across[side[q] // 4, side[q] % 4]
+        if ap != aq:
+            continue
         rp = _root(parent, p)
         rq = _root(parent, q)
-        if rp != rq:
+        if rp == rq:
+            continue
+        if ap < 0:
+            r = boundary[q, 0] + boundary[q, 1] + boundary[q, 2] - ekeys[eorder[i]] // k
+            r -= ekeys[eorder[i]] % k
             a = points[verts[boundary[p, 0]]]
             b = points[verts[boundary[p, 1]]]
             c = points[verts[boundary[p, 2]]]
-            if orient3d(a, b, c, points[verts[r]]) == 0.0:
-                parent[max(rp, rq)] = min(rp, rq)
+            if orient3d(a, b, c, points[verts[r]]) != 0.0:
+                continue
+        parent[max(rp, rq)] = min(rp, rq)
     lowest = np.full(nb, k, dtype=np.int64)
     for p in range(nb):
         rp = _root(parent, p)
         lowest[rp] = min(lowest[rp], boundary[p, 0], boundary[p, 1], boundary[p, 2])
+    # v0 must lie strictly on the inner side of every facet it is coned to: on the
+    # side of the corner opposite one of the facet's triangles in its tetrahedron
+    v0 = points[verts[0]]
+    for p in range(nb):
+        rp = _root(parent, p)
+        if rp != p or lowest[rp] == 0:
+            continue
+        a = points[verts[boundary[p, 0]]]
+        b = points[verts[boundary[p, 1]]]
+        c = points[verts[boundary[p, 2]]]
+        inner = orient3d(a, b, c, points[verts[local[side[p] // 4, side[p] % 4]]])
+        if orient3d(a, b, c, v0) * inner <= 0.0:
+            return -1
     # an edge between two facets is a polygon side of each: fan it from the
     # facet's lowest vertex, cone the triangle to v0 (local vertex 0)
     for i in range(0, 3 * nb, 2):
@@ -160,19 +213,20 @@ def _pull_cluster(points, corners, out, n_out):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def pulling(points, cells, members, starts):  # pragma: no cover
+def pulling(points, cells, across, members, starts):  # pragma: no cover
     """Pulling triangulations of clusters of tetrahedra.
 
-    Cluster ``c`` is the cells ``members[starts[c]:starts[c + 1]]``.  Returns
-    the new tetrahedra and, per cluster, whether it was triangulated again
-    (False when its boundary is not a closed surface; its cells stay).
+    Cluster ``c`` is the cells ``members[starts[c]:starts[c + 1]]``; ``across``
+    as :func:`clusters` gives it.  Returns the new tetrahedra and, per cluster,
+    whether it was triangulated again (False when its cells do not tile one
+    convex polytope; they stay).
     """
     out = np.empty((4 * members.size, 4), dtype=np.int64)
     done = np.zeros(starts.size - 1, dtype=np.bool_)
     n_out = 0
     for c in range(starts.size - 1):
-        corners = cells[members[starts[c] : starts[c + 1]]]
-        n = _pull_cluster(points, corners, out, n_out)
+        group = members[starts[c] : starts[c + 1]]
+        n = _pull_cluster(points, cells[group], across[group], out, n_out)
         if n >= 0:
             n_out = n
             done[c] = True
