@@ -16,10 +16,16 @@ Rambau, Santos, "Triangulations", 2010, from memory).
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 
 from interp._kernels import conform3d as kernels
-from interp.mesh import is_flat, simplex_geometry
+from interp.mesh import DEGENERATE, is_flat, simplex_geometry
+
+FLAT_MARGIN = 10.0
+"""A new cell must have ten times the relative volume a :class:`Mesh` refuses as
+flat (measured on the caller's coordinates, so with a margin for rounding)."""
 
 
 def conform(
@@ -82,12 +88,40 @@ def conform(
     members = grouped[np.argsort(root[grouped], kind="stable")]
     first = np.flatnonzero(np.diff(root[members], prepend=-1))
     starts = np.append(first, members.size)
-    new, done = kernels.pulling(points, cells, across, members, starts)
+    # a cluster that cannot be pulled keeps its cells; its neighbours then keep
+    # the triangles they face it with, so they are pulled again knowing it
+    pulled = np.zeros(len(cells), dtype=bool)
+    pulled[members[first]] = True
+    while True:
+        new, done = kernels.pulling(
+            points, cells, across, members, starts, pulled, FLAT_MARGIN * DEGENERATE
+        )
+        failed = first[~done & pulled[members[first]]]
+        if failed.size == 0:
+            break
+        pulled[members[failed]] = False
     keep = np.ones(len(cells), dtype=bool)
     keep[members[np.repeat(done, np.diff(starts))]] = False
+    _report_seams(keep & ~flat, neighbors, flat, across)
     new_vol, new_size = simplex_geometry(x[new])
     return (
         np.concatenate([cells[keep], new]),
         np.concatenate([vol[keep], new_vol]),
         np.concatenate([size[keep], new_size]),
     )
+
+
+def _report_seams(
+    kept: np.ndarray, neighbors: np.ndarray, flat: np.ndarray, across: np.ndarray
+) -> None:
+    """Warn when a cell Qhull gave stays next to a flat cell inside the mesh: the
+    faces on either side of the flat cell may be split differently, and a P1
+    field jumps across them."""
+    seam = kept[:, None] & flat[np.maximum(neighbors, 0)] & (neighbors >= 0) & (across >= 0)
+    if seam.any():
+        warnings.warn(
+            f"{int(seam.sum())} face(s) inside the mesh may belong to one cell only: the "
+            f"points are nearly but not exactly cospherical (a lattice rotated or rounded?), "
+            f"so a field may jump across them; snap the points to a lattice or jitter them",
+            stacklevel=4,
+        )

@@ -91,7 +91,7 @@ def clusters(cells, flat, neighbors, planes):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
+def _pull_cluster(points, corners, across, pulled, flat_ratio, out, n_out):  # pragma: no cover
     """Pulling triangulation of the convex polytope tiled by the tetrahedra
     ``corners`` (t, 4), written to ``out`` from row ``n_out``.
 
@@ -99,11 +99,15 @@ def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
     not contain it; each such facet (a planar polygon) is fanned from its own
     lowest vertex.  A facet is the boundary triangles that face one
     neighbouring cluster (``across``, per face opposite each corner: two convex
-    cells meet in one face), or, on the hull (-1), coplanar boundary triangles
-    joined across their edges (exact ``orient3d == 0``).  Returns the new row
-    count, or -1 when the tetrahedra do not tile one convex polytope (the
-    boundary is not a closed surface, or v0 is not strictly inside a facet's
-    plane); ``out`` is then left as it was up to ``n_out``.
+    cells meet in one face) that is triangulated again too (``pulled``), or,
+    on the hull (-1), coplanar boundary triangles joined across their edges
+    (exact ``orient3d == 0``); a triangle facing a cluster that keeps its
+    tetrahedra is a facet of its own.  Returns the new row count, or -1 when
+    the tetrahedra do not tile one convex polytope (the boundary is not a
+    closed surface, or v0 is not strictly inside a facet's plane) or a new
+    tetrahedron would be flat (volume at most ``flat_ratio`` times the cube of
+    its largest coordinate difference); ``out`` is then left as it was up to
+    ``n_out``.
     """
     t = corners.shape[0]
     verts = np.unique(corners)  # ascending: local order is the global order
@@ -115,13 +119,12 @@ def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
     for i in range(t):
         for j in range(4):
             f = 4 * i + j
-            n = 0
-            for q in range(4):
-                if q != j:
-                    tri[f, n] = local[i, q]
-                    n += 1
-            tri[f].sort()
-            keys[f] = (tri[f, 0] * k + tri[f, 1]) * k + tri[f, 2]
+            a, b, c = local[i, (j + 1) % 4], local[i, (j + 2) % 4], local[i, (j + 3) % 4]
+            a, b = min(a, b), max(a, b)
+            b, c = min(b, c), max(b, c)
+            a, b = min(a, b), max(a, b)
+            tri[f, 0], tri[f, 1], tri[f, 2] = a, b, c
+            keys[f] = (a * k + b) * k + c
     order = np.argsort(keys)
     boundary = np.empty((4 * t, 3), dtype=np.int64)
     side = np.empty(4 * t, dtype=np.int64)  # the face's own tetrahedron and corner
@@ -160,7 +163,7 @@ def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
         q = eorder[i + 1] // 3
         ap = across[side[p] // 4, side[p] % 4]
         aq = across[side[q] // 4, side[q] % 4]
-        if ap != aq:
+        if ap != aq or (ap >= 0 and not pulled[ap]):
             continue
         rp = _root(parent, p)
         rq = _root(parent, q)
@@ -194,6 +197,7 @@ def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
             return -1
     # an edge between two facets is a polygon side of each: fan it from the
     # facet's lowest vertex, cone the triangle to v0 (local vertex 0)
+    start = n_out
     for i in range(0, 3 * nb, 2):
         fp = _root(parent, eorder[i] // 3)
         fq = _root(parent, eorder[i + 1] // 3)
@@ -209,24 +213,37 @@ def _pull_cluster(points, corners, across, out, n_out):  # pragma: no cover
                 out[n_out, 2] = verts[u]
                 out[n_out, 3] = verts[w]
                 n_out += 1
+    for i in range(start, n_out):
+        size = 0.0
+        for a in range(4):
+            for b in range(a + 1, 4):
+                for q in range(3):
+                    size = max(size, abs(points[out[i, a], q] - points[out[i, b], q]))
+        vol = orient3d(points[out[i, 0]], points[out[i, 1]], points[out[i, 2]], points[out[i, 3]])
+        if abs(vol) <= 6.0 * flat_ratio * size**3:
+            return -1
     return n_out
 
 
 @numba.njit(cache=True, nogil=True)
-def pulling(points, cells, across, members, starts):  # pragma: no cover
+def pulling(points, cells, across, members, starts, pulled, flat_ratio):  # pragma: no cover
     """Pulling triangulations of clusters of tetrahedra.
 
     Cluster ``c`` is the cells ``members[starts[c]:starts[c + 1]]``; ``across``
-    as :func:`clusters` gives it.  Returns the new tetrahedra and, per cluster,
-    whether it was triangulated again (False when its cells do not tile one
-    convex polytope; they stay).
+    as :func:`clusters` gives it; ``pulled[r]`` tells whether the cluster of
+    root ``r`` is triangulated again (its facets are then split by the same
+    rule from both sides).  Returns the new tetrahedra and, per cluster,
+    whether it was triangulated again (False when it cannot be: see
+    :func:`_pull_cluster`; its cells stay).
     """
     out = np.empty((4 * members.size, 4), dtype=np.int64)
     done = np.zeros(starts.size - 1, dtype=np.bool_)
     n_out = 0
     for c in range(starts.size - 1):
         group = members[starts[c] : starts[c + 1]]
-        n = _pull_cluster(points, cells[group], across[group], out, n_out)
+        if not pulled[group[0]]:
+            continue
+        n = _pull_cluster(points, cells[group], across[group], pulled, flat_ratio, out, n_out)
         if n >= 0:
             n_out = n
             done[c] = True
