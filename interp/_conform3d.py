@@ -120,8 +120,9 @@ def _report_seams(
     seam = kept[:, None] & flat[np.maximum(neighbors, 0)] & (neighbors >= 0) & (across >= 0)
     if seam.any():
         warnings.warn(
-            f"{int(seam.sum())} face(s) inside the mesh may belong to one cell only: the "
-            f"points are nearly but not exactly cospherical (a lattice rotated or rounded?), "
-            f"so a field may jump across them; snap the points to a lattice or jitter them",
+            f"{int(seam.sum())} face(s) inside the mesh may belong to one cell only, next "
+            f"to cells too flat to keep, so a field may jump across them: the points are "
+            f"nearly but not exactly cospherical (a lattice turned or rounded) or nearly "
+            f"coplanar; snap them to an exact lattice or spread them",
             stacklevel=4,
         )
