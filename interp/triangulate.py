@@ -85,7 +85,10 @@ def triangulate(
         cell (one within rounding distance of another), so its value is unused.
         Where more than four points are cospherical (a lattice), Qhull's cells
         are triangulated again so that neighbours share whole faces, and the
-        zero-volume cells it emits between them are dropped without a word.
+        zero-volume cells it emits between them are dropped without a word;
+        where points are only nearly cospherical (a lattice turned or rounded)
+        and a dropped cell may leave a face with one cell inside the mesh, that
+        is reported.
 
     Examples
     --------
