@@ -81,6 +81,10 @@ MIN_RCOND_LINEAR = 1e-14
 #: relative distance from a plane within which a neighbour counts as on either side of it,
 #: when gradient recovery asks whether a node sees its 1-ring from one side only.
 ONE_SIDED = 1e-10
+#: a cell made anew by the 3D face-to-face repair must have this many times the relative
+#: volume a :class:`Mesh` refuses as flat (measured on the caller's coordinates, so with a
+#: margin for rounding).
+FLAT_MARGIN = 10.0
 
 
 def is_flat(vol: np.ndarray, size: np.ndarray, dim: int) -> np.ndarray:

@@ -14,6 +14,7 @@ import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
 from interp._arrays import as_points, check_finite
+from interp._conform3d import conform
 from interp._geometry import box_frame, is_flat, short_cells, simplex_geometry
 from interp.errors import InterpError
 from interp.mesh import Mesh
@@ -86,8 +87,12 @@ def triangulate(
         (relative measure <= 1e-12) carry a share of the volume, as in a
         nearly flat cloud, and are dropped; and when a point ends up in no
         cell (one within rounding distance of another), so its value is unused.
-        Zero-volume cells that Qhull emits for cospherical points (a lattice)
-        are dropped without a word.
+        Where more than four points are cospherical (a lattice), Qhull's cells
+        are triangulated again so that neighbours share whole faces, and the
+        zero-volume cells it emits between them are dropped without a word;
+        where points are only nearly cospherical (a lattice turned or rounded)
+        and a dropped cell may leave a face with one cell inside the mesh, that
+        is reported.
 
     Examples
     --------
@@ -115,8 +120,10 @@ def triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells, every_vertex = _delaunay(x)
+    cells, qhull, every_vertex = _delaunay(x)
     vol, size = simplex_geometry(x[cells])
+    if d == 3:  # cospherical points (a lattice): cells split alike from both sides
+        cells, vol, size = conform(pts, x, cells, vol, size, *qhull)
     cells, vol, size = _drop_flat(cells, vol, size)
     if every_vertex:
         uniq, inverse = pts.copy(), None  # the mesh owns its nodes
@@ -236,17 +243,19 @@ def _flat(x: np.ndarray) -> bool:
     return bool(sv[-1] <= 1e-10 * sv[0])
 
 
-def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
-    """Delaunay cells of normalised points, and whether every point is a vertex
-    (when not, some may be duplicates)."""
+def _delaunay(x: np.ndarray) -> tuple[np.ndarray, tuple | None, bool]:
+    """Delaunay cells of normalised points; Qhull's cell across each cell's faces
+    and the lifted hyperplane of each (none in 1D); and whether every point is a
+    vertex (when not, some may be duplicates)."""
     d = x.shape[1]
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
         cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
-        return cells, bool(np.all(np.diff(x[order, 0]) > 0))
+        return cells, None, bool(np.all(np.diff(x[order, 0]) > 0))
     try:
         tri = Delaunay(x)
     except QhullError as exc:
         msg = str(exc).splitlines()[0]
         raise InterpError(f"Delaunay triangulation failed: {msg}") from None
-    return tri.simplices.astype(np.int64), len(tri.coplanar) == 0
+    qhull = (tri.neighbors.astype(np.int64), tri.equations)
+    return tri.simplices.astype(np.int64), qhull, len(tri.coplanar) == 0
