@@ -331,6 +331,11 @@ def test_p2_converges_like_h_cubed_up_to_the_hull(d, sizes, side, level):
     whole = np.exp(np.log(errs[:, :, 0]).mean(axis=0))
     orders = np.log2(whole[:-1] / whole[1:])
     assert orders.min() >= 2.7, orders
+    if d == 2:
+        # and for each seed, over the whole refinement from n = 16 to 128 (observed per seed
+        # on this mesh family: 2.72 to 3.38; in 3D one seed of three sizes gives 2.61)
+        per_seed = np.log2(errs[:, 0, 0] / errs[:, -1, 0]) / (len(sizes) - 1)
+        assert per_seed.min() >= 2.7, per_seed
     # next to the box the error stays of the size it has inside (at the finest size);
     # a one-sided interpolating fit at the hull nodes made it 20-80 times larger
     hull, interior = errs[:, -1, 1], errs[:, -1, 2]
