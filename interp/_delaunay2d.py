@@ -15,11 +15,14 @@ points such as a regular grid, where the Delaunay triangulation is not unique.
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
 from interp._kernels import delaunay2d as k
 from interp.errors import InterpError
 from interp.mesh import as_points, check_finite
+from interp.polygon import as_ring, contains, first_crossing
 
 SEED = 20261203  # fixed: the insertion order, hence the triangulation, is reproducible
 
@@ -55,7 +58,252 @@ def delaunay2d(points: object) -> np.ndarray:
     """
     pts = _checked(points)
     tri, _, ntri, order = _triangulate(pts)
-    return k.real_cells(tri, ntri, len(pts), order)
+    return k.cells_of(tri, tri[:ntri, 2] != len(pts), order)
+
+
+BREAKLINE = 1  # edge flags in Constrained.flags
+BOUNDARY = 2
+
+
+class Constrained(NamedTuple):
+    """A constrained Delaunay triangulation (see :func:`constrained2d`)."""
+
+    points: np.ndarray
+    """(n + e, 2): the input points, then the e points the constraints added."""
+    cells: np.ndarray
+    """(m, 3) int64 counter-clockwise triangles."""
+    origin: np.ndarray
+    """(e, 2) int64: for each added point, the rows of ``segments`` that made it
+    (a crossing of two segments), -1 standing for the boundary: ``(i, -1)`` is
+    segment i crossing the boundary, ``(-1, -1)`` a boundary vertex or a point
+    where the boundary leaves the hull of the points."""
+    edges: np.ndarray
+    """(k, 2) int64: the mesh edges that carry constraints."""
+    flags: np.ndarray
+    """(k,) int8: ``BREAKLINE`` (1), ``BOUNDARY`` (2) or both (3) for each edge."""
+
+
+def constrained2d(
+    points: object, segments: object, *, boundary_rings: list[object] | None = None
+) -> Constrained:
+    """Constrained Delaunay triangulation of distinct 2D points.
+
+    Every segment becomes a union of mesh edges.  Segments that cross are split
+    at their crossing, which becomes a new point; a segment through a point
+    passes through that vertex.  Boundary rings (an outer ring and holes, even-odd
+    rule) are inserted as constraints where they lie inside the convex hull of
+    the points, and the cells outside them are removed, so the mesh covers
+    exactly the polygon inside the hull.  Every edge that is not a constraint is
+    locally Delaunay (its opposite vertices are outside each other's open
+    circumcircle, exactly), and no point is added except at crossings and on
+    the boundary.
+
+    Parameters
+    ----------
+    points : array_like (n, 2)
+        Finite, pairwise distinct points, as for :func:`delaunay2d`.
+    segments : array_like (s, 2) of int
+        Breakline segments as pairs of rows of ``points``.  Two segments may
+        cross or share an end; they may not overlap along a piece of line.
+    boundary_rings : list of array_like (k, 2), optional
+        Rings of vertices (not closed: the last vertex joins the first) that
+        must not cross or touch one another.
+
+    Returns
+    -------
+    Constrained
+        ``points`` (the input then the added points), ``cells``, ``origin`` of
+        the added points, constraint ``edges`` and their ``flags``.
+
+    Raises
+    ------
+    InterpError
+        As :func:`delaunay2d`, and for a segment that is not a pair of distinct
+        point rows, two segments overlapping along a piece of line, or a
+        boundary ring that crosses itself or another ring.
+
+    Examples
+    --------
+    >>> pts = [[0.0, 0.0], [2.0, 0.0], [2.0, 2.0], [0.0, 2.0]]
+    >>> r = constrained2d(pts, [[0, 2], [1, 3]])
+    >>> r.points[4].tolist(), len(r.cells), r.origin.tolist()
+    ([1.0, 1.0], 4, [[0, 1]])
+    """
+    pts = _checked(points)
+    n = len(pts)
+    seg = _segments(segments, n)
+    rings = [as_ring(r, "boundary") for r in boundary_rings or []]
+    bad = first_crossing(rings) if rings else None
+    if bad is not None:
+        (ra, ea), (rb, eb) = bad
+        raise InterpError(
+            f"the boundary crosses itself: edge {ea} of ring {ra} and edge {eb} of ring "
+            f"{rb} cross, touch or overlap; give rings that are simple and disjoint"
+        )
+    bpts, bseg = _clip_rings(rings, pts)
+    coords = np.vstack([pts, bpts])
+    allseg = np.vstack([seg, bseg + n])
+    source = np.concatenate([np.arange(len(seg)), np.full(len(bseg), -1)])
+    kind = np.where(source >= 0, BREAKLINE, BOUNDARY).astype(np.int8)
+    cpts, corigin, pieces, pkind = _split(coords, allseg, source, kind)
+    allpts = np.vstack([coords, cpts])
+    origin = np.vstack([np.full((len(bpts), 2), -1, dtype=np.int64), corigin])
+    order = insertion_order(allpts)
+    x = allpts[order, 0]
+    y = allpts[order, 1]
+    tri, nbr, ntri, same, status = k.delaunay(x, y)
+    if status == k.COLLINEAR:
+        _triangulate(pts)  # raises the message of the unconstrained case
+    vertex, canon = _merged(order, same, n)
+    pk = vertex[pieces]
+    use = pk[:, 0] != pk[:, 1]
+    cons, status, which = k.constrain(x, y, tri, nbr, ntri, pk[use], pkind[use])
+    if status != k.OK:
+        i = int(np.flatnonzero(use)[which])
+        raise InterpError(
+            f"constraint piece {pieces[i].tolist()} ({_name(source, i)}) crosses "
+            f"another constraint where rounding moved their crossing point; move the lines "
+            f"apart or join them at a shared vertex"
+        )
+    keep = tri[:ntri, 2] != len(allpts)
+    if rings:
+        label, first = k.regions(tri, nbr, cons, ntri, len(allpts), BOUNDARY)
+        centroid = np.stack([x[tri[first]].mean(axis=1), y[tri[first]].mean(axis=1)], axis=1)
+        keep &= contains(rings, centroid)[label]
+    kept = np.ones(len(allpts), dtype=bool)
+    kept[n:] = canon[n:] == np.arange(n, len(allpts))
+    renumber = np.cumsum(kept) - 1
+    label = renumber[canon[order]]
+    cells = k.cells_of(tri, keep, label)
+    edges, flags = k.flagged_edges(tri, nbr, cons, ntri, label)
+    return Constrained(allpts[kept], cells, origin[kept[n:]], edges, flags)
+
+
+def _segments(segments: object, n: int) -> np.ndarray:
+    arr = np.asarray(segments)
+    if arr.size == 0:
+        return np.empty((0, 2), dtype=np.int64)
+    if arr.ndim != 2 or arr.shape[1] != 2 or not np.issubdtype(arr.dtype, np.integer):
+        raise InterpError(
+            f"segments must be an (s, 2) array of point rows; got shape {arr.shape} of {arr.dtype}"
+        )
+    bad = np.flatnonzero((arr < 0).any(axis=1) | (arr >= n).any(axis=1) | (arr[:, 0] == arr[:, 1]))
+    if bad.size:
+        raise InterpError(
+            f"segment {bad[0]} is {arr[bad[0]].tolist()}: a segment joins two different "
+            f"rows of the {n} points"
+        )
+    return arr.astype(np.int64)
+
+
+def _hull(pts: np.ndarray) -> np.ndarray:
+    """Convex hull vertices of (n, 2) points, counter-clockwise."""
+    order = np.lexsort((pts[:, 1], pts[:, 0]))
+    return pts[k.convex_hull(pts[:, 0], pts[:, 1], order)]
+
+
+def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The pieces of the ring edges inside the convex hull of ``pts`` (Cyrus-Beck):
+    their end points (b, 2) and the pieces as (q, 2) rows of those points."""
+    if not rings:
+        return np.empty((0, 2)), np.empty((0, 2), dtype=np.int64)
+    hull = _hull(pts)
+    h0 = hull
+    e = np.roll(hull, -1, axis=0) - hull
+    points: list[np.ndarray] = []
+    pieces: list[tuple[int, int]] = []
+    for ring in rings:
+        at: dict[int, int] = {}  # ring vertex -> row in points
+
+        def vertex(i: int, ring: np.ndarray = ring, at: dict[int, int] = at) -> int:
+            if i not in at:
+                at[i] = len(points)
+                points.append(ring[i])
+            return at[i]
+
+        for i in range(len(ring)):
+            j = (i + 1) % len(ring)
+            p0, d = ring[i], ring[j] - ring[i]
+            f0 = e[:, 0] * (p0[1] - h0[:, 1]) - e[:, 1] * (p0[0] - h0[:, 0])
+            fd = e[:, 0] * d[1] - e[:, 1] * d[0]
+            if np.any((fd == 0) & (f0 < 0)):
+                continue
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t = -f0 / fd
+            lo = max(0.0, float(t[fd > 0].max(initial=0.0)))
+            hi = min(1.0, float(t[fd < 0].min(initial=1.0)))
+            if not lo < hi:
+                continue
+            ends = []
+            for tt, v in ((lo, i), (hi, j)):
+                if tt in (0.0, 1.0):
+                    ends.append(vertex(v))
+                else:
+                    ends.append(len(points))
+                    points.append(p0 + tt * d)
+            pieces.append((ends[0], ends[1]))
+    return np.array(points).reshape(-1, 2), np.array(pieces, dtype=np.int64).reshape(-1, 2)
+
+
+def _split(
+    coords: np.ndarray, seg: np.ndarray, source: np.ndarray, kind: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Split segments at their crossings.  Returns the crossing points, their
+    origin (pairs of ``source``), and the pieces (rows of coords then crossing
+    points) with their kinds.  Two breakline segments that overlap raise."""
+    a = coords[seg[:, 0]]
+    b = coords[seg[:, 1]]
+    cross, where, overlap = k.crossings(a[:, 0], a[:, 1], b[:, 0], b[:, 1])
+    both = overlap[(kind[overlap] == BREAKLINE).all(axis=1)]
+    if len(both):
+        i, j = both[0]
+        raise InterpError(
+            f"breakline segments {seg[i].tolist()} and {seg[j].tolist()} "
+            f"({_name(source, i)} and {_name(source, j)}) overlap along a piece of "
+            f"line; join them into one line or remove the repeated piece"
+        )
+    c = len(cross)
+    i, j = cross[:, 0], cross[:, 1]
+    cpts = a[i] + where[:, :1] * (b[i] - a[i])
+    origin = np.sort(source[cross], axis=1)
+    origin = np.where(origin[:, :1] < 0, origin[:, ::-1], origin)  # -1 (the boundary) last
+    # the vertices along each segment: its ends (t = 0, 1) and its crossings
+    m = len(seg)
+    sid = np.concatenate([np.arange(m), np.arange(m), i, j])
+    t = np.concatenate([np.zeros(m), np.ones(m), where[:, 0], where[:, 1]])
+    base = len(coords)
+    vid = np.concatenate([seg[:, 0], seg[:, 1], base + np.arange(c), base + np.arange(c)])
+    o = np.lexsort((t, sid))
+    sid, vid = sid[o], vid[o]
+    inner = sid[1:] == sid[:-1]
+    pieces = np.stack([vid[:-1][inner], vid[1:][inner]], axis=1)
+    return cpts, origin.astype(np.int64), pieces, kind[sid[:-1][inner]]
+
+
+def _name(source: np.ndarray, i: int) -> str:
+    return "the boundary" if source[i] < 0 else f"input segment {source[i]}"
+
+
+def _merged(order: np.ndarray, same: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """For each point (original row): the kernel vertex it is, and the lowest row
+    of the points equal to it.  Equal input points raise."""
+    pos = np.empty_like(order)
+    pos[order] = np.arange(len(order))
+    dup = np.flatnonzero(same >= 0)
+    inserted = np.arange(len(order))
+    inserted[dup] = same[dup]
+    canon_of = order.copy()
+    np.minimum.at(canon_of, same[dup], order[dup])
+    vertex = inserted[pos]
+    canon = canon_of[vertex]
+    inputs = (order[dup] < n) & (order[same[dup]] < n)
+    if inputs.any():
+        d = dup[np.argmax(inputs)]
+        i, j = sorted((int(order[d]), int(order[same[d]])))
+        raise InterpError(
+            f"point {j} equals point {i}; merge exact duplicates before triangulating"
+        )
+    return vertex, canon
 
 
 def _checked(points: object) -> np.ndarray:
