@@ -142,7 +142,7 @@ def constrained2d(
         )
     bpts, bseg = _clip_rings(rings, pts)
     coords = np.vstack([pts, bpts])
-    allseg = np.vstack([seg, bseg + n])
+    allseg = np.vstack([seg, bseg])
     source = np.concatenate([np.arange(len(seg)), np.full(len(bseg), -1)])
     kind = np.where(source >= 0, BREAKLINE, BOUNDARY).astype(np.int8)
     cpts, corigin, pieces, pkind = _split(coords, allseg, source, kind)
@@ -196,31 +196,31 @@ def _segments(segments: object, n: int) -> np.ndarray:
     return arr.astype(np.int64)
 
 
-def _hull(pts: np.ndarray) -> np.ndarray:
-    """Convex hull vertices of (n, 2) points, counter-clockwise."""
-    order = np.lexsort((pts[:, 1], pts[:, 0]))
-    return pts[k.convex_hull(pts[:, 0], pts[:, 1], order)]
-
-
 def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """The pieces of the ring edges inside the convex hull of ``pts`` (Cyrus-Beck):
-    their end points (b, 2) and the pieces as (q, 2) rows of those points."""
+    """The pieces of the ring edges inside the convex hull of ``pts`` (Cyrus-Beck).
+
+    Returns the new points (b, 2) (ring vertices inside the hull, points where a
+    ring crosses the hull) and the pieces as (q, 2) rows of ``[pts; new points]``.
+    Where a ring crosses a hull edge, the hull edge is split there into pieces
+    too: the crossing point is rounded to either side of the hull edge, and those
+    pieces close the gap, so that boundary edges separate inside from outside.
+    """
+    n = len(pts)
     if not rings:
         return np.empty((0, 2)), np.empty((0, 2), dtype=np.int64)
-    hull = _hull(pts)
-    h0 = hull
-    e = np.roll(hull, -1, axis=0) - hull
+    hull = k.convex_hull(pts[:, 0], pts[:, 1], np.lexsort((pts[:, 1], pts[:, 0])))
+    h0 = pts[hull]
+    e = pts[np.roll(hull, -1)] - h0
     points: list[np.ndarray] = []
     pieces: list[tuple[int, int]] = []
+    on_hull: list[tuple[int, float, int]] = []  # hull edge, place along it, point
+
+    def add(p: np.ndarray) -> int:
+        points.append(p)
+        return n + len(points) - 1
+
     for ring in rings:
-        at: dict[int, int] = {}  # ring vertex -> row in points
-
-        def vertex(i: int, ring: np.ndarray = ring, at: dict[int, int] = at) -> int:
-            if i not in at:
-                at[i] = len(points)
-                points.append(ring[i])
-            return at[i]
-
+        at: dict[int, int] = {}  # ring vertex -> its point
         for i in range(len(ring)):
             j = (i + 1) % len(ring)
             p0, d = ring[i], ring[j] - ring[i]
@@ -230,18 +230,28 @@ def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, n
                 continue
             with np.errstate(divide="ignore", invalid="ignore"):
                 t = -f0 / fd
-            lo = max(0.0, float(t[fd > 0].max(initial=0.0)))
-            hi = min(1.0, float(t[fd < 0].min(initial=1.0)))
+            enter = np.where(fd > 0, t, -np.inf)
+            leave = np.where(fd < 0, t, np.inf)
+            lo, hi = max(0.0, enter.max()), min(1.0, leave.min())
             if not lo < hi:
                 continue
             ends = []
-            for tt, v in ((lo, i), (hi, j)):
+            for tt, v, edge in ((lo, i, enter.argmax()), (hi, j, leave.argmin())):
                 if tt in (0.0, 1.0):
-                    ends.append(vertex(v))
+                    if v not in at:
+                        at[v] = add(ring[v])
+                    ends.append(at[v])
                 else:
-                    ends.append(len(points))
-                    points.append(p0 + tt * d)
+                    q = p0 + tt * d
+                    ends.append(add(q))
+                    on_hull.append((int(edge), float(np.dot(q - h0[edge], e[edge])), ends[-1]))
             pieces.append((ends[0], ends[1]))
+    on_hull.sort()
+    for edge in sorted({c[0] for c in on_hull}):
+        chain = [int(hull[edge])]
+        chain += [c[2] for c in on_hull if c[0] == edge]
+        chain.append(int(hull[(edge + 1) % len(hull)]))
+        pieces += list(zip(chain[:-1], chain[1:], strict=True))
     return np.array(points).reshape(-1, 2), np.array(pieces, dtype=np.int64).reshape(-1, 2)
 
 
