@@ -126,7 +126,6 @@ def delaunay(x, y):  # pragma: no cover
     _first_triangle(x, y, tri, nbr, 0, 1, third, inf)
     ntri = 4
     last = 0
-    seed = np.uint32(2463534242)
     for i in range(2, n):
         if i == third:
             continue
@@ -136,13 +135,8 @@ def delaunay(x, y):  # pragma: no cover
         t = last
         came = -1
         while tri[t, 2] != inf:
-            seed ^= seed << np.uint32(13)
-            seed ^= seed >> np.uint32(17)
-            seed ^= seed << np.uint32(5)
-            k0 = seed % np.uint32(3)
             moved = False
-            for kk in range(3):
-                k = (k0 + kk) % 3
+            for k in range(3):
                 nb = nbr[t, k]
                 if nb == came:
                     continue
