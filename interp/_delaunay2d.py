@@ -27,7 +27,7 @@ from interp.polygon import as_ring, contains, first_crossing
 SEED = 20261203  # fixed: the insertion order, hence the triangulation, is reproducible
 
 
-def delaunay2d(points: object) -> np.ndarray:
+def delaunay2d(points: object, *, repeats: bool = False) -> np.ndarray:
     """Delaunay triangulation of distinct 2D points.
 
     Parameters
@@ -38,6 +38,9 @@ def delaunay2d(points: object) -> np.ndarray:
         rounding distance but not equal (near duplicates at 1e-12) are distinct
         points: each is a vertex, and the thin cells between them are exactly
         counter-clockwise.
+    repeats : bool
+        Accept exact duplicates: of equal points, one (any) is a vertex and the
+        others are in no cell.
 
     Returns
     -------
@@ -49,7 +52,7 @@ def delaunay2d(points: object) -> np.ndarray:
     ------
     InterpError
         For fewer than three points, NaN or infinite coordinates, exact
-        duplicates, or points all on one line.
+        duplicates (unless ``repeats``), or points all on one line.
 
     Examples
     --------
@@ -57,7 +60,7 @@ def delaunay2d(points: object) -> np.ndarray:
     [[0, 1, 2], [2, 1, 3]]
     """
     pts = _checked(points)
-    tri, _, ntri, order = _triangulate(pts)
+    tri, _, ntri, order = _triangulate(pts, repeats)
     return k.cells_of(tri, tri[:ntri, 2] != len(pts), order)
 
 
@@ -344,7 +347,9 @@ def insertion_order(pts: np.ndarray) -> np.ndarray:
     return np.argsort(keys)
 
 
-def _triangulate(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray, int, np.ndarray]:
+def _triangulate(
+    pts: np.ndarray, repeats: bool = False
+) -> tuple[np.ndarray, np.ndarray, int, np.ndarray]:
     """The kernel's triangles (in insertion order) and that order; errors raised."""
     order = insertion_order(pts)
     x = pts[order, 0]
@@ -356,7 +361,7 @@ def _triangulate(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray, int, np.ndarr
             "dimensions (use 1D coordinates along the line instead)"
         )
     dup = np.flatnonzero(same >= 0)
-    if dup.size:
+    if dup.size and not repeats:
         i, j = sorted((int(order[dup[0]]), int(order[same[dup[0]]])))
         raise InterpError(
             f"{dup.size} point(s) repeat an earlier point, e.g. index {j} equals index {i}; "

@@ -13,6 +13,7 @@ import warnings
 import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
+from interp._delaunay2d import delaunay2d
 from interp.errors import InterpError
 from interp.mesh import Mesh, as_points, box_frame, check_finite, is_flat, simplex_geometry
 from interp.polygon import as_ring, contains
@@ -58,6 +59,11 @@ def triangulate(
     points: object, *, max_edge: float | None = None, boundary: object | None = None
 ) -> Mesh:
     """Delaunay triangulation of scattered points in 1D, 2D or 3D.
+
+    In 2D the triangulation is our own (:func:`interp._delaunay2d.delaunay2d`):
+    exact predicates on the raw coordinates, so it is exactly Delaunay at any
+    offset.  1D sorts the points; 3D uses scipy's Qhull on centred, scaled
+    coordinates.
 
     Parameters
     ----------
@@ -111,7 +117,7 @@ def triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells, every_vertex = _delaunay(x)
+    cells, every_vertex = _delaunay(pts if d == 2 else x)
     vol, size = simplex_geometry(x[cells])
     cells, vol, size = _drop_flat(cells, vol, size)
     if every_vertex:
@@ -221,9 +227,12 @@ def _flat(x: np.ndarray) -> bool:
 
 
 def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
-    """Delaunay cells of normalised points, and whether every point is a vertex
-    (when not, some may be duplicates)."""
+    """Delaunay cells of the points (1D and 3D: normalised), and whether every
+    point is a vertex (when not, some may be duplicates)."""
     d = x.shape[1]
+    if d == 2:
+        cells = delaunay2d(x, repeats=True)
+        return cells, np.unique(cells).size == len(x)
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
         cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)

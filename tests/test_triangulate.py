@@ -162,13 +162,24 @@ def test_no_cell_left_after_dropping_flat_ones():
 
 
 def test_point_left_out_by_qhull_is_reported(rng):
-    # a point 1e-15 from another is not an exact duplicate, yet Qhull cannot use both
-    pts = rng.random((100, 2))
+    # 3D (Qhull): a point 1e-15 from another is not an exact duplicate, yet Qhull cannot
+    # use both
+    pts = rng.random((100, 3))
     near = np.vstack([pts, pts[5] + 1e-15])
     with pytest.warns(UserWarning, match="1 point\\(s\\) are in no cell, the first at index"):
         mesh = triangulate(near)
     assert mesh.n_nodes == 101
     assert np.unique(mesh.cells).size == 100
+
+
+def test_near_point_is_a_vertex_in_2d(rng):
+    # 2D (exact predicates): the same point is a vertex; the cells between the two are
+    # too thin for a Mesh and dropped, losing no measurable area (scipy's ConvexHull)
+    pts = rng.random((100, 2))
+    near = np.vstack([pts, pts[5] + 1e-15])
+    mesh = triangulate(near)
+    assert np.unique(mesh.cells).size == 101
+    assert mesh.measure().sum() == pytest.approx(ConvexHull(near).volume, rel=1e-12)
 
 
 def test_non_numeric_input_named():
