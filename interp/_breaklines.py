@@ -1,0 +1,147 @@
+"""Breaklines: polylines the surface must follow (kerbs, walls, crests, toes).
+
+A breakline is a (k, 2) or (k, 3) array of vertices x, y[, value].  Its
+segments become mesh edges (see :func:`interp._delaunay2d.constrained2d`), so
+no cell straddles it.  A vertex without a value (NaN, or no third column)
+takes the value interpolated linearly along its line, by chainage, between the
+nearest vertices of the line that have one; before the first and after the
+last such vertex the value is held constant.  A line with no value at all
+takes its values from the surface of the data points.
+"""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+
+from interp.errors import InterpError
+from interp.mesh import as_floats
+
+
+def as_lines(lines: object, name: str = "breaklines") -> list[np.ndarray]:
+    """Validated breaklines as (k, 3) float64 arrays x, y, value (NaN: none).
+
+    Raises an :class:`InterpError` naming the line (and the segment) for a
+    line that is not (k, 2) or (k, 3) numbers, has fewer than 2 vertices,
+    has NaN or infinite coordinates, or repeats a vertex in a row (a segment
+    of zero length).
+
+    Examples
+    --------
+    >>> [v[:, 2].tolist() for v in as_lines([[[0, 0], [1, 0]], [[0, 1, 2.5], [1, 1, np.nan]]])]
+    [[nan, nan], [2.5, nan]]
+    """
+    if isinstance(lines, np.ndarray) and lines.ndim == 2:
+        lines = [lines]
+    out = []
+    for i, line in enumerate(lines):
+        what = f"{name}: line {i}"
+        arr = as_floats(line, f"{what} must be a (k, 2) or (k, 3) array of numbers")
+        if arr.ndim != 2 or arr.shape[1] not in (2, 3) or len(arr) < 2:
+            raise InterpError(
+                f"{what} has shape {arr.shape}; give at least 2 vertices as rows x, y[, value]"
+            )
+        if not np.isfinite(arr[:, :2]).all():
+            raise InterpError(f"{what} has NaN or infinite coordinates; remove those vertices")
+        zero = np.flatnonzero((arr[1:, :2] == arr[:-1, :2]).all(axis=1))
+        if zero.size:
+            raise InterpError(
+                f"{what}, segment {zero[0]}: vertices {zero[0]} and {zero[0] + 1} are the same "
+                f"point; remove the repeated vertex"
+            )
+        if arr.shape[1] == 2:
+            arr = np.column_stack([arr, np.full(len(arr), np.nan)])
+        out.append(np.ascontiguousarray(arr))
+    return out
+
+
+def filled_values(line: np.ndarray) -> np.ndarray:
+    """The values of a validated line, gaps filled along its chainage (all NaN
+    when no vertex has a value).
+
+    Examples
+    --------
+    >>> filled_values(np.array([[0.0, 0, 1], [3, 4, np.nan], [6, 8, 3]])).tolist()
+    [1.0, 2.0, 3.0]
+    """
+    chainage = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(line[:, :2], axis=0).T))])
+    given = ~np.isnan(line[:, 2])
+    if not given.any():
+        return line[:, 2].copy()
+    return np.interp(chainage, chainage[given], line[given, 2])
+
+
+def segments(lines: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """All vertices (v, 3) with filled values, the segments as (s, 2) vertex rows,
+    and the (line, segment) each segment is.
+
+    Examples
+    --------
+    >>> v, seg, which = segments(as_lines([[[0, 0], [1, 0], [1, 1]]]))
+    >>> seg.tolist(), which.tolist()
+    ([[0, 1], [1, 2]], [[0, 0], [0, 1]])
+    """
+    sizes = np.array([len(line) for line in lines])
+    first = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+    verts = np.vstack([np.column_stack([ln[:, :2], filled_values(ln)]) for ln in lines])
+    line_of = np.repeat(np.arange(len(lines)), sizes - 1)
+    within = np.concatenate([np.arange(k - 1) for k in sizes])
+    start = first[line_of] + within
+    return verts, np.stack([start, start + 1], axis=1), np.stack([line_of, within], axis=1)
+
+
+def read_lines(path: str | os.PathLike) -> list[np.ndarray]:
+    """Read breaklines from a delimited file with columns ``x, y[, value], line``.
+
+    One row per vertex; ``line`` numbers the polylines, and the rows of a line
+    follow one another in order along it.  An empty ``value`` cell is a vertex
+    without a value.
+
+    Returns
+    -------
+    list of ndarray (k, 3)
+        The lines in the order they first appear, validated by :func:`as_lines`.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "kerbs.csv"
+    >>> _ = path.write_text("x,y,value,line\\n0,0,1.5,1\\n4,0,,1\\n0,2,,2\\n4,2,2.0,2\\n")
+    >>> [ln.shape for ln in read_lines(path)]
+    [(2, 3), (2, 3)]
+    """
+    from interp.io import _read_all
+
+    points, values, numbers, text_columns = _read_all(path, ("x", "y"))
+    cols = {n.lower(): n for n in [*values, *text_columns]}
+    for col in ("line", "value"):
+        if col in cols and cols[col] in text_columns:
+            raise InterpError(
+                f"{path}, line {text_columns[cols[col]]}: the {col} column must hold numbers"
+            )
+    if "line" not in cols:
+        raise InterpError(
+            f"{path}: no column named 'line'; number the polylines in a column 'line' "
+            f"(columns x, y[, value], line)"
+        )
+    line = values[cols["line"]]
+    bad = np.flatnonzero(~np.isfinite(line) | (line != np.round(line)))
+    if bad.size:
+        raise InterpError(f"{path}, line {numbers[bad[0]]}: the line number must be a whole number")
+    value = values[cols["value"]] if "value" in cols else np.full(len(points), np.nan)
+    starts = np.flatnonzero(np.r_[True, line[1:] != line[:-1]])
+    ids = line[starts]
+    if len(np.unique(ids)) < len(ids):
+        seen = {}
+        for s, ident in zip(starts, ids, strict=True):
+            if ident in seen:
+                raise InterpError(
+                    f"{path}, line {numbers[s]}: the rows of polyline {ident:g} are not "
+                    f"together (it also starts at line {numbers[seen[ident]]}); keep the "
+                    f"rows of a line consecutive"
+                )
+            seen[ident] = s
+    rows = np.column_stack([points, value])
+    parts = np.split(rows, starts[1:])
+    return as_lines(parts, name=str(path))
