@@ -12,9 +12,11 @@ takes its values from the surface of the data points.
 from __future__ import annotations
 
 import os
+from typing import NamedTuple
 
 import numpy as np
 
+from interp._delaunay2d import constrained2d, first_outside_hull
 from interp.errors import InterpError
 from interp.mesh import as_floats
 
@@ -145,3 +147,69 @@ def read_lines(path: str | os.PathLike) -> list[np.ndarray]:
     rows = np.column_stack([points, value])
     parts = np.split(rows, starts[1:])
     return as_lines(parts, name=str(path))
+
+
+class Inserted(NamedTuple):
+    """Points triangulated with breaklines (see :func:`insert`)."""
+
+    points: np.ndarray
+    """(n + e, 2): the distinct data points, then the e points the lines added."""
+    cells: np.ndarray
+    """(m, 3) int64 counter-clockwise triangles."""
+    values: np.ndarray
+    """(e,) the value of each added point along its line (NaN: the line has none)."""
+
+
+def insert(points: np.ndarray, lines: list[np.ndarray]) -> Inserted:
+    """The constrained Delaunay triangulation of distinct (n, 2) points with
+    validated breaklines.
+
+    Line vertices that equal a data point are that point; the others, and the
+    crossings of lines, are added after the data points.  An added crossing
+    takes its value along the first line crossing there that has values.
+
+    Raises an :class:`InterpError` naming the line and segment for a vertex
+    outside the convex hull of the points (the surface is not defined there)
+    and for two lines overlapping along a piece of line.
+
+    Examples
+    --------
+    >>> pts = np.array([[0.0, 0], [2, 0], [2, 2], [0, 2]])
+    >>> r = insert(pts, as_lines([[[0, 1, 5.0], [2, 1, 7.0]]]))
+    >>> r.points[4:].tolist(), r.values.tolist(), len(r.cells)
+    ([[0.0, 1.0], [2.0, 1.0]], [5.0, 7.0], 4)
+    """
+    verts, seg, which = segments(lines)
+    out = first_outside_hull(points, verts[:, :2])
+    if out >= 0:
+        i, j = which[min(np.searchsorted(seg[:, 0], out), len(seg) - 1)]
+        raise InterpError(
+            f"breakline {i}, segment {j}: vertex {verts[out, :2].tolist()} lies outside the "
+            f"convex hull of the data points, where there is no surface; end the line inside "
+            f"the data or add points around it"
+        )
+    n = len(points)
+    near = np.flatnonzero(np.isin(points[:, 0], verts[:, 0]))  # may equal a line vertex
+    rows = {tuple(p): int(r) for r, p in zip(near, points[near].tolist(), strict=True)}
+    node = np.empty(len(verts), dtype=np.int64)
+    added: list[int] = []
+    for v, p in enumerate(verts[:, :2].tolist()):
+        key = tuple(p)
+        if key not in rows:
+            rows[key] = n + len(added)
+            added.append(v)
+        node[v] = rows[key]
+    nodes = np.vstack([points, verts[added, :2]])
+    names = [f"breakline {i}, segment {j}" for i, j in which.tolist()]
+    r = constrained2d(nodes, node[seg], names=names)
+    values = np.full(len(r.points) - n, np.nan)
+    values[: len(added)] = verts[added, 2]
+    for c, (i, j) in enumerate(r.origin.tolist()):
+        for s in (i, j):
+            a, b = verts[seg[s]]
+            if np.isfinite(a[2]) and np.isfinite(b[2]):
+                t = np.dot(r.points[len(nodes) + c] - a[:2], b[:2] - a[:2])
+                t /= np.dot(b[:2] - a[:2], b[:2] - a[:2])
+                values[len(added) + c] = a[2] + t * (b[2] - a[2])
+                break
+    return Inserted(r.points, r.cells, values)

@@ -87,7 +87,11 @@ class Constrained(NamedTuple):
 
 
 def constrained2d(
-    points: object, segments: object, *, boundary_rings: list[object] | None = None
+    points: object,
+    segments: object,
+    *,
+    boundary_rings: list[object] | None = None,
+    names: list[str] | None = None,
 ) -> Constrained:
     """Constrained Delaunay triangulation of distinct 2D points.
 
@@ -111,6 +115,8 @@ def constrained2d(
     boundary_rings : list of array_like (k, 2), optional
         Rings of vertices (not closed: the last vertex joins the first) that
         must not cross or touch one another.
+    names : list of str, optional
+        What to call each segment in error messages (default "input segment i").
 
     Returns
     -------
@@ -148,7 +154,8 @@ def constrained2d(
     allseg = np.vstack([seg, bseg])
     source = np.concatenate([np.arange(len(seg)), np.full(len(bseg), -1)])
     kind = np.where(source >= 0, BREAKLINE, BOUNDARY).astype(np.int8)
-    cpts, corigin, pieces, pkind = _split(coords, allseg, source, kind)
+    label = names if names is not None else [f"input segment {i}" for i in range(len(seg))]
+    cpts, corigin, pieces, pseg = _split(coords, allseg, source, kind, label)
     allpts = np.vstack([coords, cpts])
     origin = np.vstack([np.full((len(bpts), 2), -1, dtype=np.int64), corigin])
     order = insertion_order(allpts)
@@ -160,11 +167,11 @@ def constrained2d(
     vertex, canon = _merged(order, same, n)
     pk = vertex[pieces]
     use = pk[:, 0] != pk[:, 1]
-    cons, status, which = k.constrain(x, y, tri, nbr, ntri, pk[use], pkind[use])
+    cons, status, which = k.constrain(x, y, tri, nbr, ntri, pk[use], kind[pseg[use]])
     if status != k.OK:
         i = int(np.flatnonzero(use)[which])
         raise InterpError(
-            f"constraint piece {pieces[i].tolist()} ({_name(source, i)}) crosses "
+            f"constraint piece {pieces[i].tolist()} ({_name(source, label, pseg[i])}) crosses "
             f"another constraint where rounding moved their crossing point; move the lines "
             f"apart or join them at a shared vertex"
         )
@@ -199,6 +206,11 @@ def _segments(segments: object, n: int) -> np.ndarray:
     return arr.astype(np.int64)
 
 
+def _hull(pts: np.ndarray) -> np.ndarray:
+    """Rows of the convex hull vertices of (n, 2) points, counter-clockwise."""
+    return k.convex_hull(pts[:, 0], pts[:, 1], np.lexsort((pts[:, 1], pts[:, 0])))
+
+
 def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The pieces of the ring edges inside the convex hull of ``pts`` (Cyrus-Beck).
 
@@ -211,7 +223,7 @@ def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, n
     n = len(pts)
     if not rings:
         return np.empty((0, 2)), np.empty((0, 2), dtype=np.int64)
-    hull = k.convex_hull(pts[:, 0], pts[:, 1], np.lexsort((pts[:, 1], pts[:, 0])))
+    hull = _hull(pts)
     h0 = pts[hull]
     e = pts[np.roll(hull, -1)] - h0
     points: list[np.ndarray] = []
@@ -259,11 +271,12 @@ def _clip_rings(rings: list[np.ndarray], pts: np.ndarray) -> tuple[np.ndarray, n
 
 
 def _split(
-    coords: np.ndarray, seg: np.ndarray, source: np.ndarray, kind: np.ndarray
+    coords: np.ndarray, seg: np.ndarray, source: np.ndarray, kind: np.ndarray, label: list[str]
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Split segments at their crossings.  Returns the crossing points, their
     origin (pairs of ``source``), and the pieces (rows of coords then crossing
-    points) with their kinds.  Two breakline segments that overlap raise."""
+    points) with the segment each is part of.  Two breakline segments that
+    overlap raise."""
     a = coords[seg[:, 0]]
     b = coords[seg[:, 1]]
     cross, where, overlap = k.crossings(a[:, 0], a[:, 1], b[:, 0], b[:, 1])
@@ -272,7 +285,7 @@ def _split(
         i, j = both[0]
         raise InterpError(
             f"breakline segments {seg[i].tolist()} and {seg[j].tolist()} "
-            f"({_name(source, i)} and {_name(source, j)}) overlap along a piece of "
+            f"({_name(source, label, i)} and {_name(source, label, j)}) overlap along a piece of "
             f"line; join them into one line or remove the repeated piece"
         )
     c = len(cross)
@@ -290,11 +303,25 @@ def _split(
     sid, vid = sid[o], vid[o]
     inner = sid[1:] == sid[:-1]
     pieces = np.stack([vid[:-1][inner], vid[1:][inner]], axis=1)
-    return cpts, origin.astype(np.int64), pieces, kind[sid[:-1][inner]]
+    return cpts, origin.astype(np.int64), pieces, sid[:-1][inner]
 
 
-def _name(source: np.ndarray, i: int) -> str:
-    return "the boundary" if source[i] < 0 else f"input segment {source[i]}"
+def _name(source: np.ndarray, label: list[str], i: int) -> str:
+    return "the boundary" if source[i] < 0 else label[source[i]]
+
+
+def first_outside_hull(points: np.ndarray, query: np.ndarray) -> int:
+    """The first row of ``query`` strictly outside the convex hull of ``points``
+    (exact), or -1.
+
+    Examples
+    --------
+    >>> sq = np.array([[0.0, 0], [1, 0], [1, 1], [0, 1]])
+    >>> first_outside_hull(sq, np.array([[0.5, 0.5], [1.0, 0.5], [1.5, 0.5]]))
+    2
+    """
+    x, y = points[:, 0], points[:, 1]
+    return int(k.first_outside(x, y, _hull(points), query[:, 0], query[:, 1]))
 
 
 def _merged(order: np.ndarray, same: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:

@@ -13,6 +13,7 @@ import warnings
 import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
+from interp._breaklines import as_lines, insert
 from interp._delaunay2d import delaunay2d
 from interp.errors import InterpError
 from interp.mesh import Mesh, as_points, box_frame, check_finite, is_flat, simplex_geometry
@@ -56,7 +57,11 @@ def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def triangulate(
-    points: object, *, max_edge: float | None = None, boundary: object | None = None
+    points: object,
+    *,
+    max_edge: float | None = None,
+    boundary: object | None = None,
+    breaklines: list[object] | None = None,
 ) -> Mesh:
     """Delaunay triangulation of scattered points in 1D, 2D or 3D.
 
@@ -74,6 +79,14 @@ def triangulate(
         Drop cells with any edge longer than this.
     boundary : array_like (p, 2), optional
         2D only: a polygon; cells whose centroid lies outside it are dropped.
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: polylines x, y[, value] the mesh must follow (see
+        :mod:`interp._breaklines`): every segment is a union of mesh edges and
+        every other edge is locally Delaunay (a constrained Delaunay
+        triangulation).  Line vertices that are not data points, and the
+        crossings of lines, become nodes after the distinct data points.  A
+        vertex outside the convex hull of the points, or two lines overlapping
+        along a piece of line, is refused, naming the line and segment.
 
     Returns
     -------
@@ -99,7 +112,17 @@ def triangulate(
     4
     >>> triangulate(pts, max_edge=2.0).n_cells
     2
+    >>> triangulate(pts, breaklines=[[[0, 0.5], [3, 3]]]).n_nodes
+    7
     """
+    return _triangulate(points, max_edge, boundary, breaklines)[0]
+
+
+def _triangulate(
+    points: object, max_edge: object, boundary: object, breaklines: object
+) -> tuple[Mesh, np.ndarray]:
+    """:func:`triangulate`, and the values along their lines of the nodes the
+    breaklines added (NaN where a line has none)."""
     pts = as_points(points)
     check_finite(pts)
     d = pts.shape[1]
@@ -117,14 +140,25 @@ def triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells, every_vertex = _delaunay(pts if d == 2 else x)
-    vol, size = simplex_geometry(x[cells])
-    cells, vol, size = _drop_flat(cells, vol, size)
-    if every_vertex:
-        uniq, inverse = pts.copy(), None  # the mesh owns its nodes
-    else:  # duplicates are never vertices: merging is needed only now
+    if breaklines is not None:
+        if d != 2:
+            raise InterpError(f"breaklines apply to 2D points; these are {d}D")
         uniq, inverse = _distinct(pts)
-        cells = inverse[cells]
+        inserted = insert(uniq, as_lines(breaklines))
+        uniq, cells, added = inserted
+        centre = box_frame(pts.min(axis=0), pts.max(axis=0))[0]
+        vol, size = simplex_geometry((uniq - centre)[cells] / scale)
+        cells, vol, size = _drop_flat(cells, vol, size)
+    else:
+        added = np.empty(0)
+        cells, every_vertex = _delaunay(pts if d == 2 else x)
+        vol, size = simplex_geometry(x[cells])
+        cells, vol, size = _drop_flat(cells, vol, size)
+        if every_vertex:
+            uniq, inverse = pts.copy(), None  # the mesh owns its nodes
+        else:  # duplicates are never vertices: merging is needed only now
+            uniq, inverse = _distinct(pts)
+            cells = inverse[cells]
     _report_unused(uniq, cells, inverse)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
@@ -139,7 +173,8 @@ def triangulate(
             "use a larger max_edge or check that the boundary surrounds the points"
         )
     # Delaunay cells of checked points need no second check; their measures scale back
-    return Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
+    mesh = Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
+    return mesh, added
 
 
 def _positive(value: object, name: str) -> float:

@@ -630,3 +630,17 @@ def convex_hull(x, y, order):  # pragma: no cover
         hull[h] = i
         h += 1
     return hull[: h - 1]
+
+
+@numba.njit(cache=True, nogil=True)
+def first_outside(x, y, hull, px, py):  # pragma: no cover
+    """The first point (px[i], py[i]) strictly outside the convex polygon of
+    counter-clockwise vertices ``hull`` (rows of x, y), or -1 (exact)."""
+    h = hull.shape[0]
+    for i in range(px.shape[0]):
+        for j in range(h):
+            a = hull[j]
+            b = hull[(j + 1) % h]
+            if orient2d(x[a], y[a], x[b], y[b], px[i], py[i]) < 0.0:
+                return i
+    return -1
