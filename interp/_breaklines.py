@@ -84,6 +84,8 @@ def segments(lines: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarra
     >>> seg.tolist(), which.tolist()
     ([[0, 1], [1, 2]], [[0, 0], [0, 1]])
     """
+    if not lines:
+        return np.empty((0, 3)), np.empty((0, 2), dtype=np.int64), np.empty((0, 2), dtype=np.int64)
     sizes = np.array([len(line) for line in lines])
     first = np.concatenate([[0], np.cumsum(sizes)[:-1]])
     verts = np.vstack([np.column_stack([ln[:, :2], filled_values(ln)]) for ln in lines])
@@ -160,13 +162,17 @@ class Inserted(NamedTuple):
     """(e,) the value of each added point along its line (NaN: the line has none)."""
 
 
-def insert(points: np.ndarray, lines: list[np.ndarray]) -> Inserted:
+def insert(
+    points: np.ndarray, lines: list[np.ndarray], rings: list[np.ndarray] | None = None
+) -> Inserted:
     """The constrained Delaunay triangulation of distinct (n, 2) points with
-    validated breaklines.
+    validated breaklines, and boundary rings (cells outside them removed).
 
-    Line vertices that equal a data point are that point; the others, and the
-    crossings of lines, are added after the data points.  An added crossing
-    takes its value along the first line crossing there that has values.
+    Line vertices that equal a data point are that point; the others, the
+    crossings of lines, and the boundary's vertices and crossings inside the
+    hull are added after the data points.  An added crossing takes its value
+    along the first line crossing there that has values; boundary vertices
+    have none (NaN).
 
     Raises an :class:`InterpError` naming the line and segment for a vertex
     outside the convex hull of the points (the surface is not defined there)
@@ -180,7 +186,7 @@ def insert(points: np.ndarray, lines: list[np.ndarray]) -> Inserted:
     ([[0.0, 1.0], [2.0, 1.0]], [5.0, 7.0], 4)
     """
     verts, seg, which = segments(lines)
-    out = first_outside_hull(points, verts[:, :2])
+    out = first_outside_hull(points, verts[:, :2]) if len(verts) else -1
     if out >= 0:
         i, j = which[min(np.searchsorted(seg[:, 0], out), len(seg) - 1)]
         raise InterpError(
@@ -201,11 +207,11 @@ def insert(points: np.ndarray, lines: list[np.ndarray]) -> Inserted:
         node[v] = rows[key]
     nodes = np.vstack([points, verts[added, :2]])
     names = [f"breakline {i}, segment {j}" for i, j in which.tolist()]
-    r = constrained2d(nodes, node[seg], names=names)
+    r = constrained2d(nodes, node[seg], boundary_rings=rings, names=names)
     values = np.full(len(r.points) - n, np.nan)
     values[: len(added)] = verts[added, 2]
     for c, (i, j) in enumerate(r.origin.tolist()):
-        for s in (i, j):
+        for s in [v for v in (i, j) if v >= 0]:
             a, b = verts[seg[s]]
             if np.isfinite(a[2]) and np.isfinite(b[2]):
                 t = np.dot(r.points[len(nodes) + c] - a[:2], b[:2] - a[:2])

@@ -2,8 +2,8 @@
 
 Survey data is concave and gappy: the convex hull of the points bridges bays
 and gaps with long thin triangles.  ``max_edge`` drops cells with an edge
-longer than a length, and ``boundary`` drops cells whose centroid lies
-outside a polygon.
+longer than a length, and ``boundary`` inserts a polygon's edges as
+constraints and drops the cells outside it.
 """
 
 from __future__ import annotations
@@ -77,8 +77,13 @@ def triangulate(
         warning; the mesh nodes are the distinct points in first-seen order.
     max_edge : float, optional
         Drop cells with any edge longer than this.
-    boundary : array_like (p, 2), optional
-        2D only: a polygon; cells whose centroid lies outside it are dropped.
+    boundary : array_like (p, 2) or Polygon, optional
+        2D only: a ring of vertices or an :class:`interp.Polygon` with holes.
+        Its edges are inserted as constraints where they lie inside the convex
+        hull of the points and the cells outside it are removed, so the mesh
+        covers exactly the polygon inside the hull; its vertices (and its
+        crossings with the hull and with breaklines) become nodes after the
+        data points.
     breaklines : list of array_like (k, 2) or (k, 3), optional
         2D only: polylines x, y[, value] the mesh must follow (see
         :mod:`interp._breaklines`): every segment is a union of mesh edges and
@@ -140,17 +145,21 @@ def _triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    if breaklines is not None:
-        if d != 2:
-            raise InterpError(f"breaklines apply to 2D points; these are {d}D")
+    if boundary is not None and d != 2:
+        raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
+    if breaklines is not None and d != 2:
+        raise InterpError(f"breaklines apply to 2D points; these are {d}D")
+    if breaklines is not None or boundary is not None:
         uniq, inverse = _distinct(pts)
-        inserted = insert(uniq, as_lines(breaklines))
-        uniq, cells, added = inserted
+        lines = as_lines(breaklines) if breaklines is not None else []
+        rings = _rings(boundary)
+        uniq, cells, added = insert(uniq, lines, rings)
+        outside = None if rings is None else ~contains(rings, uniq)
         centre = box_frame(pts.min(axis=0), pts.max(axis=0))[0]
         vol, size = simplex_geometry((uniq - centre)[cells] / scale)
         cells, vol, size = _drop_flat(cells, vol, size)
     else:
-        added = np.empty(0)
+        added, outside = np.empty(0), None
         cells, every_vertex = _delaunay(pts if d == 2 else x)
         vol, size = simplex_geometry(x[cells])
         cells, vol, size = _drop_flat(cells, vol, size)
@@ -159,14 +168,10 @@ def _triangulate(
         else:  # duplicates are never vertices: merging is needed only now
             uniq, inverse = _distinct(pts)
             cells = inverse[cells]
-    _report_unused(uniq, cells, inverse)
+    _report_unused(uniq, cells, inverse, outside)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
         keep &= _longest_edge(uniq, cells) <= _positive(max_edge, "max_edge")
-    if boundary is not None:
-        if d != 2:
-            raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-        keep &= contains([as_ring(boundary, "boundary")], uniq[cells].mean(axis=1))
     if not keep.any():
         raise InterpError(
             "every cell was removed by the max_edge / boundary masks; "
@@ -175,6 +180,14 @@ def _triangulate(
     # Delaunay cells of checked points need no second check; their measures scale back
     mesh = Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
     return mesh, added
+
+
+def _rings(boundary: object) -> list[np.ndarray] | None:
+    """The rings of a boundary: a :class:`interp.Polygon` (holes too) or one ring."""
+    if boundary is None:
+        return None
+    rings = getattr(boundary, "rings", None)
+    return list(rings) if rings is not None else [as_ring(boundary, "boundary")]
 
 
 def _positive(value: object, name: str) -> float:
@@ -217,13 +230,16 @@ def _drop_flat(
     return cells[~flat], vol[~flat], size[~flat]
 
 
-def _report_unused(points: np.ndarray, cells: np.ndarray, inverse: np.ndarray | None) -> None:
-    """Warn about input points that are in no cell (before masking).
+def _report_unused(
+    points: np.ndarray, cells: np.ndarray, inverse: np.ndarray | None, outside: np.ndarray | None
+) -> None:
+    """Warn about input points that are in no cell (before masking), other than
+    those ``outside`` the boundary.
 
     Qhull leaves out a point that lies within rounding distance of another
     without being an exact duplicate; its value would be silently ignored.
     """
-    used = np.zeros(len(points), dtype=bool)
+    used = np.zeros(len(points), dtype=bool) if outside is None else outside.copy()
     used[cells.ravel()] = True
     if inverse is not None:
         used = used[inverse]
