@@ -170,3 +170,37 @@ def test_random_breaklines_valid_mesh_and_every_point_located(raw, lines):
     assert float(exact_area(mesh.points, mesh.cells)) == pytest.approx(hull.area, rel=1e-12)
     assert (mesh.locate(pts).cells >= 0).all()
     assert set(range(len(pts))) <= set(np.unique(mesh.cells).tolist())
+
+
+def test_boundary_polygon_with_hole_fills_it_exactly():
+    # reference: shapely's area of (polygon with hole) intersected with the points' hull;
+    # the boundary's edges are mesh edges, so the mesh covers it with no gap
+    rng = np.random.default_rng(12)
+    pts = rng.random((800, 2)) * 100
+    outer = np.array([[-5.0, 30], [50, -10], [105, 45], [60, 80], [45, 55], [20, 90]])
+    hole = np.array([[40.0, 30], [60, 35], [55, 52], [38, 48]])
+    mesh = interp.triangulate(pts, boundary=interp.Polygon(outer, holes=[hole]))
+    expected = shapely.Polygon(outer, [hole]).intersection(shapely.MultiPoint(pts).convex_hull)
+    assert mesh.measure().sum() == pytest.approx(expected.area, rel=1e-9)
+    union = shapely.union_all(shapely.polygons(mesh.points[mesh.cells]))
+    assert union.symmetric_difference(expected).area <= 1e-9 * expected.area
+    # a ring alone is the exterior; the hole's corners are nodes
+    plain = interp.triangulate(pts, boundary=outer)
+    assert plain.measure().sum() == pytest.approx(
+        shapely.Polygon(outer).intersection(shapely.MultiPoint(pts).convex_hull).area, rel=1e-9
+    )
+    for v in hole:
+        assert (np.abs(mesh.points - v).max(axis=1) == 0).any()
+
+
+def test_fit_with_boundary_and_breaklines_reproduces_a_plane():
+    # a plane is reproduced exactly by P1 on any mesh: added nodes must carry plane values
+    rng = np.random.default_rng(13)
+    pts = rng.random((400, 2)) * 50
+    z = 2.0 + 0.3 * pts[:, 0] - 0.1 * pts[:, 1]
+    ring = np.array([[5.0, 5], [45, 8], [40, 45], [8, 40]])
+    line = np.array([[10.0, 10], [30, 35]])
+    f = interp.fit(pts, z, boundary=ring, breaklines=[line])
+    nodes = f.mesh.points
+    np.testing.assert_allclose(f.values, 2.0 + 0.3 * nodes[:, 0] - 0.1 * nodes[:, 1], atol=1e-9)
+    assert f.mesh.n_nodes > 400  # the ring's corners, the line's ends, where they cross
