@@ -14,6 +14,7 @@ Examples
 [1.0]
 """
 
+from interp._breaklines import read_lines
 from interp.clip import Pieces
 from interp.errors import InterpError
 from interp.field import Field
@@ -62,6 +63,7 @@ __all__ = [
     "profile",
     "quadrature",
     "read",
+    "read_lines",
     "read_points",
     "read_polygon",
     "residual_summary",
