@@ -170,10 +170,15 @@ def constrained2d(
     cons, status, which = k.constrain(x, y, tri, nbr, ntri, pk[use], kind[pseg[use]])
     if status != k.OK:
         i = int(np.flatnonzero(use)[which])
+        what = f"constraint piece {pieces[i].tolist()} ({_name(source, label, pseg[i])})"
+        if status == k.CROSSING:
+            raise InterpError(
+                f"{what} crosses another constraint where rounding moved their crossing "
+                f"point; move the lines apart or join them at a shared vertex"
+            )
         raise InterpError(
-            f"constraint piece {pieces[i].tolist()} ({_name(source, label, pseg[i])}) crosses "
-            f"another constraint where rounding moved their crossing point; move the lines "
-            f"apart or join them at a shared vertex"
+            f"{what} could not be inserted: a defect of the triangulator; please report "
+            f"it with the data"
         )
     keep = tri[:ntri, 2] != len(allpts)
     if rings:
