@@ -116,6 +116,7 @@ def delaunay(x, y):  # pragma: no cover
     same = np.full(n, -1, dtype=np.int32)
     cav = np.empty(64, dtype=np.int32)
     bd = np.empty((64, 4), dtype=np.int32)  # boundary edge a, b, outside triangle, its slot
+    end_of = np.empty(64, dtype=np.int32)
     third = -1
     for k in range(2, n):
         if orient2d(x[0], y[0], x[1], y[1], x[k], y[k]) != 0.0:
@@ -172,18 +173,23 @@ def delaunay(x, y):  # pragma: no cover
                     continue
                 if _conflict(x, y, tri, nb, i, inf):
                     mark[nb] = stamp
-                    cav = _grow(cav, ncav + 1)
+                    if ncav == cav.shape[0]:
+                        cav = _grow(cav, ncav + 1)
                     cav[ncav] = nb
                     ncav += 1
                 else:
-                    bd = _grow(bd, nbd + 1)
+                    if nbd == bd.shape[0]:
+                        bd = _grow(bd, nbd + 1)
                     bd[nbd, 0] = tri[c, (k + 1) % 3]
                     bd[nbd, 1] = tri[c, (k + 2) % 3]
                     bd[nbd, 2] = nb
                     bd[nbd, 3] = _slot(nbr, nb, c)
                     nbd += 1
         # the fan: cavity slots reused, two more appended
-        cav = _grow(cav, nbd)
+        if nbd > cav.shape[0]:
+            cav = _grow(cav, nbd)
+        if nbd > end_of.shape[0]:
+            end_of = _grow(end_of, nbd)
         for q in range(ncav, nbd):
             cav[q] = ntri
             ntri += 1
@@ -191,23 +197,28 @@ def delaunay(x, y):  # pragma: no cover
             s = cav[q]
             a = bd[q, 0]
             b = bd[q, 1]
+            nb = bd[q, 2]
+            # slots of i, a, b in the new triangle (a ghost keeps inf last)
             if a == inf:
                 tri[s, 0], tri[s, 1], tri[s, 2] = b, i, inf
+                bd[q, 0], bd[q, 1], bd[q, 2] = 1, 2, 0
             elif b == inf:
                 tri[s, 0], tri[s, 1], tri[s, 2] = i, a, inf
+                bd[q, 0], bd[q, 1], bd[q, 2] = 0, 1, 2
             else:
                 tri[s, 0], tri[s, 1], tri[s, 2] = a, b, i
+                bd[q, 0], bd[q, 1], bd[q, 2] = 2, 0, 1
                 last = s
-            nb = bd[q, 2]
-            nbr[s, _slot(tri, s, i)] = nb
+            nbr[s, bd[q, 0]] = nb
             nbr[nb, bd[q, 3]] = s
             start_of[a] = q
+            end_of[q] = b
         for q in range(nbd):
             s = cav[q]
-            q2 = start_of[bd[q, 1]]
+            q2 = start_of[end_of[q]]
             s2 = cav[q2]
-            nbr[s, _slot(tri, s, bd[q, 0])] = s2
-            nbr[s2, _slot(tri, s2, bd[q2, 1])] = s
+            nbr[s, bd[q, 1]] = s2  # across b-i, opposite a
+            nbr[s2, bd[q2, 2]] = s  # across i-b of the next, opposite its end
     return tri, nbr, ntri, same, OK
 
 
@@ -525,7 +536,8 @@ def regions(tri, nbr, cons, ntri, inf, wall):  # pragma: no cover
                 if label[u] >= 0 or tri[u, 2] == inf or (cons[t, k] & wall) != 0:
                     continue
                 label[u] = nreg
-                stack = _grow(stack, n + 1)
+                if n == stack.shape[0]:
+                    stack = _grow(stack, n + 1)
                 stack[n] = u
                 n += 1
         nreg += 1
