@@ -17,6 +17,7 @@ against ``delaunay2d`` on the same points.
 from __future__ import annotations
 
 import argparse
+import os
 import subprocess
 import sys
 import time
@@ -153,6 +154,7 @@ def main(argv: list[str] | None = None) -> None:
     if args.scale_child:
         scale_child(args.scale_child)
         return
+    print(f"load average before the run: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores")
     print(f"{'case':50s} {'interp':>9s} {'scipy':>9s} {'ratio':>7s}  note")
     for case, ours, ref, note in run(args.small):
         ratio = f"{ref / ours:7.2f}" if ref else " " * 7
