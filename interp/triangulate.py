@@ -283,7 +283,9 @@ def _delaunay(x: np.ndarray) -> tuple[np.ndarray, bool]:
     d = x.shape[1]
     if d == 2:
         cells = delaunay2d(x, repeats=True)
-        return cells, np.unique(cells).size == len(x)
+        used = np.zeros(len(x), dtype=bool)
+        used[cells.ravel()] = True
+        return cells, bool(used.all())
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
         cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)
