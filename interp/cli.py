@@ -100,20 +100,26 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument(
         "--boundary",
         type=Path,
-        help="point files: POLYGON.csv; drop cells whose centroid is outside",
+        help="point files: POLYGON.csv (holes kept); its edges become mesh edges and the "
+        "cells outside are dropped",
+    )
+    g.add_argument(
+        "--breaklines",
+        type=Path,
+        help="point files: LINES.csv with columns x,y[,value],line; the surface follows them",
     )
     g.add_argument("--field", help="use only this field (default: all)")
 
 
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
     stage(args, f"reading {path or args.source}")
-    boundary = interp.read_polygon(args.boundary)[0] if args.boundary else None
     return load(
         path or args.source,
         coords=args.coords,
         order=args.order,
         max_edge=args.max_edge,
-        boundary=boundary,
+        boundary=region_of(args.boundary),
+        breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
         field=args.field,
     )
 

@@ -7,6 +7,7 @@ memory); exact rational arithmetic (``fractions``) for orientations; shapely
 for hull areas.
 """
 
+import json
 from fractions import Fraction
 
 import numpy as np
@@ -204,3 +205,27 @@ def test_fit_with_boundary_and_breaklines_reproduces_a_plane():
     nodes = f.mesh.points
     np.testing.assert_allclose(f.values, 2.0 + 0.3 * nodes[:, 0] - 0.1 * nodes[:, 1], atol=1e-9)
     assert f.mesh.n_nodes > 400  # the ring's corners, the line's ends, where they cross
+
+
+def test_cli_volume_with_breaklines_file(tmp_path, capsys):
+    # the frustum of test_stockpile_volume_exact_with_breaklines, through files and the
+    # command line: 624 exactly with the lines, off without them
+    from interp.cli import main
+
+    rng = np.random.default_rng(4)
+    xy = np.vstack([rng.uniform(-15, 15, (2000, 2)), [[-15, -15], [15, -15], [15, 15], [-15, 15]]])
+    np.savetxt(
+        tmp_path / "s.csv",
+        np.column_stack([xy, frustum(xy[:, 0], xy[:, 1])]),
+        delimiter=",",
+        header="x,y,z",
+        comments="",
+    )
+    rows = [[*v, i] for i, line in enumerate(frustum_lines()) for v in line]
+    np.savetxt(tmp_path / "l.csv", rows, delimiter=",", header="x,y,value,line", comments="")
+    out = {}
+    for extra in ([], ["--breaklines", str(tmp_path / "l.csv")]):
+        main(["volume", str(tmp_path / "s.csv"), "--level", "0", "--json", *extra])
+        out[bool(extra)] = json.loads(capsys.readouterr().out)["net"]
+    assert out[True] == pytest.approx(624.0, rel=1e-9)
+    assert abs(out[False] - 624.0) > 1e-3
