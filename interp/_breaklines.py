@@ -18,6 +18,7 @@ import numpy as np
 
 from interp._delaunay2d import constrained2d, first_outside_hull
 from interp.errors import InterpError
+from interp.io import _read_all
 from interp.mesh import as_floats
 
 
@@ -58,6 +59,17 @@ def as_lines(lines: object, name: str = "breaklines") -> list[np.ndarray]:
     return out
 
 
+def segment_lengths(line: np.ndarray) -> np.ndarray:
+    """Plan lengths of the segments of a line (k, 2 or 3): (k - 1,).
+
+    Examples
+    --------
+    >>> segment_lengths(np.array([[0.0, 0], [3, 4], [3, 5]])).tolist()
+    [5.0, 1.0]
+    """
+    return np.hypot(*np.diff(line[:, :2], axis=0).T)
+
+
 def filled_values(line: np.ndarray) -> np.ndarray:
     """The values of a validated line, gaps filled along its chainage (all NaN
     when no vertex has a value).
@@ -67,7 +79,7 @@ def filled_values(line: np.ndarray) -> np.ndarray:
     >>> filled_values(np.array([[0.0, 0, 1], [3, 4, np.nan], [6, 8, 3]])).tolist()
     [1.0, 2.0, 3.0]
     """
-    chainage = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(line[:, :2], axis=0).T))])
+    chainage = np.concatenate([[0.0], np.cumsum(segment_lengths(line))])
     given = ~np.isnan(line[:, 2])
     if not given.any():
         return line[:, 2].copy()
@@ -115,8 +127,6 @@ def read_lines(path: str | os.PathLike) -> list[np.ndarray]:
     >>> [ln.shape for ln in read_lines(path)]
     [(2, 3), (2, 3)]
     """
-    from interp.io import _read_all
-
     points, values, numbers, text_columns = _read_all(path, ("x", "y"))
     cols = {n.lower(): n for n in [*values, *text_columns]}
     for col in ("line", "value"):

@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 import interp
+from interp._breaklines import segment_lengths
 from interp.source import choose_fields, describe, load, sample_file
 
 CAUTION = (
@@ -156,6 +157,11 @@ def cmd_info(args: argparse.Namespace) -> None:
     ]
     if "smallest_angle_deg" in q:
         lines.append(f"smallest angle: {q['smallest_angle_deg']:.3g} degrees")
+    if args.breaklines:
+        found = interp.read_lines(args.breaklines)
+        length = float(sum(segment_lengths(line).sum() for line in found))
+        info["breaklines"] = {"count": len(found), "length": length}
+        lines.append(f"breaklines: {len(found)}, total length {length:.6g}")
     for name, f in info["fields"].items():
         lines.append(
             f"field {name}: {f['components']} component(s), range "

@@ -229,3 +229,16 @@ def test_cli_volume_with_breaklines_file(tmp_path, capsys):
         out[bool(extra)] = json.loads(capsys.readouterr().out)["net"]
     assert out[True] == pytest.approx(624.0, rel=1e-9)
     assert abs(out[False] - 624.0) > 1e-3
+
+
+def test_cli_info_reports_breaklines(tmp_path, capsys):
+    # two lines: a 3-4-5 segment and a 1 m one, total plan length 6 (hand-worked)
+    from interp.cli import main
+
+    pts = np.array([[0.0, 0], [10, 0], [10, 10], [0, 10], [5, 5]])
+    np.savetxt(
+        tmp_path / "s.csv", np.c_[pts, pts[:, 0]], delimiter=",", header="x,y,z", comments=""
+    )
+    (tmp_path / "l.csv").write_text("x,y,line\n1,1,0\n4,5,0\n6,2,1\n7,2,1\n")
+    main(["info", str(tmp_path / "s.csv"), "--breaklines", str(tmp_path / "l.csv"), "--json"])
+    assert json.loads(capsys.readouterr().out)["breaklines"] == {"count": 2, "length": 6.0}
