@@ -154,8 +154,8 @@ def constrained2d(
     allseg = np.vstack([seg, bseg])
     source = np.concatenate([np.arange(len(seg)), np.full(len(bseg), -1)])
     kind = np.where(source >= 0, BREAKLINE, BOUNDARY).astype(np.int8)
-    label = names if names is not None else [f"input segment {i}" for i in range(len(seg))]
-    cpts, corigin, pieces, pseg = _split(coords, allseg, source, kind, label)
+    called = names if names is not None else [f"input segment {i}" for i in range(len(seg))]
+    cpts, corigin, pieces, pseg = _split(coords, allseg, source, kind, called)
     allpts = np.vstack([coords, cpts])
     origin = np.vstack([np.full((len(bpts), 2), -1, dtype=np.int64), corigin])
     order = insertion_order(allpts)
@@ -170,7 +170,7 @@ def constrained2d(
     cons, status, which = k.constrain(x, y, tri, nbr, ntri, pk[use], kind[pseg[use]])
     if status != k.OK:
         i = int(np.flatnonzero(use)[which])
-        what = f"constraint piece {pieces[i].tolist()} ({_name(source, label, pseg[i])})"
+        what = f"constraint piece {pieces[i].tolist()} ({_name(source, called, pseg[i])})"
         if status == k.CROSSING:
             raise InterpError(
                 f"{what} crosses another constraint where rounding moved their crossing "
@@ -182,15 +182,15 @@ def constrained2d(
         )
     keep = tri[:ntri, 2] != len(allpts)
     if rings:
-        label, first = k.regions(tri, nbr, cons, ntri, len(allpts), BOUNDARY)
+        region, first = k.regions(tri, nbr, cons, ntri, len(allpts), BOUNDARY)
         centroid = np.stack([x[tri[first]].mean(axis=1), y[tri[first]].mean(axis=1)], axis=1)
-        keep &= contains(rings, centroid)[label]
+        keep &= contains(rings, centroid)[region]
     kept = np.ones(len(allpts), dtype=bool)
     kept[n:] = canon[n:] == np.arange(n, len(allpts))
     renumber = np.cumsum(kept) - 1
-    label = renumber[canon[order]]
-    cells = k.cells_of(tri, keep, label)
-    edges, flags = k.flagged_edges(tri, nbr, cons, ntri, label)
+    row = renumber[canon[order]]  # output row of each kernel vertex
+    cells = k.cells_of(tri, keep, row)
+    edges, flags = k.flagged_edges(tri, nbr, cons, ntri, row)
     return Constrained(allpts[kept], cells, origin[kept[n:]], edges, flags)
 
 
