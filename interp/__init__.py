@@ -42,6 +42,7 @@ Examples
 [1.0]
 """
 
+from interp._breaklines import read_lines
 from interp._fit import fit
 from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp._overlay import Overlay, overlay
@@ -105,6 +106,7 @@ __all__ = [
     "profile",
     "quadrature",
     "read",
+    "read_lines",
     "read_points",
     "read_polygon",
     "residual_summary",

@@ -45,7 +45,7 @@ import numpy as np
 
 from interp._arrays import as_floats, as_points, check_finite
 from interp._kernels.fit import recover as _recover
-from interp._triangulate import merge_duplicates, triangulate
+from interp._triangulate import merge_duplicates, mesh_and_added, triangulate
 from interp.errors import InterpError
 from interp.field import Field
 from interp.mesh import Mesh
@@ -173,6 +173,7 @@ def fit(
     order: int = 1,
     max_edge: float | None = None,
     boundary: object | None = None,
+    breaklines: list[object] | None = None,
     name: str | None = None,
 ) -> Field:
     """A field through scattered data: P1 or P2 on the Delaunay triangulation of the points.
@@ -198,6 +199,12 @@ def fit(
         than ``max_edge``, or (2D) with the centroid outside the ``boundary``
         polygon (an :class:`interp.Polygon`, holes included, or one ring), are
         removed.
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D: polylines x, y[, value] passed to :func:`interp.triangulate`, so no
+        cell straddles them.  Their vertices and crossings that are not data
+        points are nodes too, valued along their line (see
+        :mod:`interp._breaklines`); a line without values takes them from the
+        surface of the data points.
 
     Returns
     -------
@@ -229,15 +236,37 @@ def fit(
     1.0
     """
     data = samples(points, values, order)
-    mesh = triangulate(data.unique, max_edge=max_edge, boundary=boundary)
+    mesh, added = mesh_and_added(data.unique, max_edge, boundary, breaklines)
+    mean = _node_values(data, mesh, added)
     if order == 1:
-        return Field(mesh, data.shaped(data.mean), name=name)
+        return Field(mesh, data.shaped(mean), name=name)
     ptr, idx = neighbours(mesh)
-    grad = recover_gradients(mesh.points, data.mean, ptr, idx)
+    grad = recover_gradients(mesh.points, mean, ptr, idx)
     edges = mesh.edges()[0]
     a, b = edges.T
-    mids = midpoint(data.mean[a], data.mean[b], grad[a], grad[b], mesh.points[b] - mesh.points[a])
-    return Field(mesh.elevate(), data.shaped(np.vstack([data.mean, mids])), name=name)
+    mids = midpoint(mean[a], mean[b], grad[a], grad[b], mesh.points[b] - mesh.points[a])
+    return Field(mesh.elevate(), data.shaped(np.vstack([mean, mids])), name=name)
+
+
+def _node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
+    """Values at every mesh node: the data, then the nodes that breaklines added
+    (their values along the line; from the data's own surface where the line has
+    none)."""
+    if not added.size:
+        return data.mean
+    c = data.mean.shape[1]
+    if c > 1 and np.isfinite(added).any():
+        raise InterpError(
+            f"breakline values are one number per vertex but the data have {c} components; "
+            f"give the breaklines as x, y only"
+        )
+    vals = np.repeat(added[:, None], c, axis=1)
+    missing = np.isnan(added)
+    if missing.any():
+        surface = Field(triangulate(data.unique), data.shaped(data.mean))
+        where = mesh.points[len(data.unique) :][missing]
+        vals[missing] = np.asarray(surface(where)).reshape(len(where), c)
+    return np.vstack([data.mean, vals])
 
 
 def neighbours(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:

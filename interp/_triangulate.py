@@ -2,8 +2,8 @@
 
 Survey data is concave and gappy: the convex hull of the points bridges bays
 and gaps with long thin triangles.  ``max_edge`` drops cells with an edge
-longer than a length, and ``boundary`` drops cells whose centroid lies
-outside a polygon.
+longer than a length, and ``boundary`` inserts a polygon's edges as
+constraints and drops the cells outside it.
 """
 
 from __future__ import annotations
@@ -14,12 +14,13 @@ import numpy as np
 from scipy.spatial import Delaunay, QhullError
 
 from interp._arrays import as_points, check_finite
+from interp._breaklines import as_lines, insert
 from interp._conform3d import conform
+from interp._delaunay2d import delaunay2d
 from interp._geometry import box_frame, is_flat, short_cells, simplex_geometry
 from interp.errors import InterpError
 from interp.mesh import Mesh
 from interp.polygon import as_ring, contains
-from interp.regions import Polygon
 
 
 def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -59,9 +60,18 @@ def merge_duplicates(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def triangulate(
-    points: object, *, max_edge: float | None = None, boundary: object | None = None
+    points: object,
+    *,
+    max_edge: float | None = None,
+    boundary: object | None = None,
+    breaklines: list[object] | None = None,
 ) -> Mesh:
     """Delaunay triangulation of scattered points in 1D, 2D or 3D.
+
+    In 2D the triangulation is our own (:func:`interp._delaunay2d.delaunay2d`):
+    exact predicates on the raw coordinates, so it is exactly Delaunay at any
+    offset.  1D sorts the points; 3D uses scipy's Qhull on centred, scaled
+    coordinates.
 
     Parameters
     ----------
@@ -70,9 +80,21 @@ def triangulate(
         warning; the mesh nodes are the distinct points in first-seen order.
     max_edge : float, optional
         Drop cells with any edge longer than this.
-    boundary : Polygon or array_like (p, 2), optional
-        2D only: a polygon (an :class:`interp.Polygon`, holes included, or one
-        ring of vertices); cells whose centroid lies outside it are dropped.
+    boundary : array_like (p, 2) or Polygon, optional
+        2D only: a ring of vertices or an :class:`interp.Polygon` with holes.
+        Its edges are inserted as constraints where they lie inside the convex
+        hull of the points and the cells outside it are removed, so the mesh
+        covers exactly the polygon inside the hull; its vertices (and its
+        crossings with the hull and with breaklines) become nodes after the
+        data points.
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: polylines x, y[, value] the mesh must follow (see
+        :mod:`interp._breaklines`): every segment is a union of mesh edges and
+        every other edge is locally Delaunay (a constrained Delaunay
+        triangulation).  Line vertices that are not data points, and the
+        crossings of lines, become nodes after the distinct data points.  A
+        vertex outside the convex hull of the points, or two lines overlapping
+        along a piece of line, is refused, naming the line and segment.
 
     Returns
     -------
@@ -102,7 +124,17 @@ def triangulate(
     4
     >>> triangulate(pts, max_edge=2.0).n_cells
     2
+    >>> triangulate(pts, breaklines=[[[0, 0.5], [3, 3]]]).n_nodes
+    7
     """
+    return mesh_and_added(points, max_edge, boundary, breaklines)[0]
+
+
+def mesh_and_added(
+    points: object, max_edge: object, boundary: object, breaklines: object
+) -> tuple[Mesh, np.ndarray]:
+    """:func:`triangulate`, and the values along their lines of the nodes the
+    breaklines added (NaN where a line has none)."""
     pts = as_points(points)
     check_finite(pts)
     d = pts.shape[1]
@@ -120,34 +152,58 @@ def triangulate(
             f"the points are {what}: a {d}D triangulation needs points spread in {d} "
             f"dimensions (use {d - 1}D coordinates instead)"
         )
-    cells, qhull, every_vertex = _delaunay(x)
-    vol, size = simplex_geometry(x[cells])
-    if d == 3:  # cospherical points (a lattice): cells split alike from both sides
-        cells, vol, size = conform(pts, x, cells, vol, size, *qhull)
-    cells, vol, size = _drop_flat(cells, vol, size)
-    if every_vertex:
-        uniq, inverse = pts.copy(), None  # the mesh owns its nodes
-    else:  # duplicates are never vertices: merging is needed only now
+    if boundary is not None and d != 2:
+        raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
+    if breaklines is not None and d != 2:
+        raise InterpError(f"breaklines apply to 2D points; these are {d}D")
+    if breaklines is not None or boundary is not None:
         uniq, inverse = _distinct(pts)
-        cells = inverse[cells]
-    _report_unused(uniq, cells, inverse)
+        lines = as_lines(breaklines) if breaklines is not None else []
+        rings = _rings(boundary)
+        uniq, cells, added = insert(uniq, lines, rings)
+        outside = None if rings is None else ~contains(rings, uniq)
+        centre = box_frame(pts.min(axis=0), pts.max(axis=0))[0]
+        vol, size = simplex_geometry((uniq - centre)[cells] / scale)
+        cells, vol, size = _drop_flat(cells, vol, size)
+    else:
+        added, outside = np.empty(0), None
+        cells, qhull, every_vertex = _delaunay(pts if d == 2 else x)
+        vol, size = simplex_geometry(x[cells])
+        if d == 3:  # cospherical points (a lattice): cells split alike from both sides
+            cells, vol, size = conform(pts, x, cells, vol, size, *qhull)
+        cells, vol, size = _drop_flat(cells, vol, size)
+        if every_vertex:
+            uniq, inverse = pts.copy(), None  # the mesh owns its nodes
+        else:  # duplicates are never vertices: merging is needed only now
+            uniq, inverse = _distinct(pts)
+            cells = inverse[cells]
+    _report_unused(uniq, cells, inverse, outside)
     keep = np.ones(len(cells), dtype=bool)
     if max_edge is not None:
         keep &= short_cells(uniq, cells, max_edge)
-    if boundary is not None:
-        keep &= inside_boundary(uniq, cells, boundary)
     if not keep.any():
         raise InterpError(
             "every cell was removed by the max_edge / boundary masks; "
             "use a larger max_edge or check that the boundary surrounds the points"
         )
     # Delaunay cells of checked points need no second check; their measures scale back
-    return Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
+    mesh = Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
+    return mesh, added
+
+
+def _rings(boundary: object) -> list[np.ndarray] | None:
+    """The rings of a boundary: a :class:`interp.Polygon` (holes too) or one ring."""
+    if boundary is None:
+        return None
+    rings = getattr(boundary, "rings", None)
+    return list(rings) if rings is not None else [as_ring(boundary, "boundary")]
 
 
 def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> np.ndarray:
-    """The ``boundary`` mask: True for cells whose centroid lies inside the polygon
-    (an :class:`interp.Polygon`, holes included, or one ring of vertices); 2D only.
+    """The centroid mask of a ``boundary``: True for cells whose centroid lies inside
+    the polygon (an :class:`interp.Polygon`, holes included, or one ring of vertices);
+    2D only.  :func:`triangulate` inserts a boundary instead; leave-one-out keeps
+    its plain Delaunay cells and masks them with this.
 
     Examples
     --------
@@ -162,11 +218,7 @@ def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> 
     d = points.shape[1]
     if d != 2:
         raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-    if isinstance(boundary, Polygon):
-        rings = [boundary.exterior, *boundary.holes]
-    else:
-        rings = [as_ring(boundary, "boundary")]
-    return contains(rings, points[cells].mean(axis=1))
+    return contains(_rings(boundary), points[cells].mean(axis=1))
 
 
 def _drop_flat(
@@ -199,13 +251,16 @@ def _drop_flat(
     return cells[~flat], vol[~flat], size[~flat]
 
 
-def _report_unused(points: np.ndarray, cells: np.ndarray, inverse: np.ndarray | None) -> None:
-    """Warn about input points that are in no cell (before masking).
+def _report_unused(
+    points: np.ndarray, cells: np.ndarray, inverse: np.ndarray | None, outside: np.ndarray | None
+) -> None:
+    """Warn about input points that are in no cell (before masking), other than
+    those ``outside`` the boundary.
 
     Qhull leaves out a point that lies within rounding distance of another
     without being an exact duplicate; its value would be silently ignored.
     """
-    used = np.zeros(len(points), dtype=bool)
+    used = np.zeros(len(points), dtype=bool) if outside is None else outside.copy()
     used[cells.ravel()] = True
     if inverse is not None:
         used = used[inverse]
@@ -244,10 +299,15 @@ def _flat(x: np.ndarray) -> bool:
 
 
 def _delaunay(x: np.ndarray) -> tuple[np.ndarray, tuple | None, bool]:
-    """Delaunay cells of normalised points; Qhull's cell across each cell's faces
-    and the lifted hyperplane of each (none in 1D); and whether every point is a
-    vertex (when not, some may be duplicates)."""
+    """Delaunay cells of the points (1D and 3D: normalised); in 3D Qhull's cell
+    across each cell's faces and the lifted hyperplane of each (None otherwise);
+    and whether every point is a vertex (when not, some may be duplicates)."""
     d = x.shape[1]
+    if d == 2:
+        cells = delaunay2d(x, repeats=True)
+        used = np.zeros(len(x), dtype=bool)
+        used[cells.ravel()] = True
+        return cells, None, bool(used.all())
     if d == 1:
         order = np.argsort(x[:, 0], kind="stable")
         cells = np.stack([order[:-1], order[1:]], axis=1).astype(np.int64)

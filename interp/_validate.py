@@ -75,13 +75,16 @@ def crossvalidate(
         The ``max_edge`` mask of the fit: a prediction that falls in a cell
         with a longer edge is NaN.
     boundary : Polygon or array_like (p, 2), optional
-        2D only: the ``boundary`` mask of the fit (an :class:`interp.Polygon`,
-        holes included, or one ring): a prediction that falls in a cell whose
-        centroid lies outside it is NaN.  For ``order=2`` the gradients
-        around a removed point are recovered from its re-triangulated
-        neighbourhood whether or not those new cells are inside the boundary,
-        so near the boundary a residual can differ slightly from that of a
-        refit with ``fit(..., boundary=)``.
+        2D only: a polygon (an :class:`interp.Polygon`, holes included, or
+        one ring): a prediction that falls in a cell of the others' Delaunay
+        triangulation whose centroid lies outside it is NaN.  ``fit(...,
+        boundary=)`` inserts the boundary's edges and vertices instead, so in
+        the cells the boundary crosses (or whose circumcircle holds one of
+        its vertices) a residual differs from that of a refit; elsewhere it
+        is the same.  For ``order=2`` the gradients around a removed point
+        are recovered from its re-triangulated neighbourhood whether or not
+        those new cells are inside the boundary.  Breaklines are not taken
+        into account.
 
     Returns
     -------

@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 import interp
+from interp._breaklines import segment_lengths
 from interp.source import choose_fields, describe, load, sample_file
 
 CAUTION = (
@@ -100,28 +101,26 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument(
         "--boundary",
         type=Path,
-        help="point files: POLYGON.csv; drop cells whose centroid is outside",
+        help="point files: POLYGON.csv (holes kept); its edges become mesh edges and the "
+        "cells outside are dropped",
+    )
+    g.add_argument(
+        "--breaklines",
+        type=Path,
+        help="point files: LINES.csv with columns x,y[,value],line; the surface follows them",
     )
     g.add_argument("--field", help="use only this field (default: all)")
 
 
-def boundary_polygon(args: argparse.Namespace) -> interp.Polygon | None:
-    """The ``--boundary`` polygon, holes included (None without the option)."""
-    if not args.boundary:
-        return None
-    rings = interp.read_polygon(args.boundary)
-    return interp.Polygon(rings[0], rings[1:])
-
-
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
     stage(args, f"reading {path or args.source}")
-    boundary = boundary_polygon(args)
     return load(
         path or args.source,
         coords=args.coords,
         order=args.order,
         max_edge=args.max_edge,
-        boundary=boundary,
+        boundary=region_of(args.boundary),
+        breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
         field=args.field,
     )
 
@@ -158,6 +157,11 @@ def cmd_info(args: argparse.Namespace) -> None:
     ]
     if "smallest_angle_deg" in q:
         lines.append(f"smallest angle: {q['smallest_angle_deg']:.3g} degrees")
+    if args.breaklines:
+        found = interp.read_lines(args.breaklines)
+        length = float(sum(segment_lengths(line).sum() for line in found))
+        info["breaklines"] = {"count": len(found), "length": length}
+        lines.append(f"breaklines: {len(found)}, total length {length:.6g}")
     for name, f in info["fields"].items():
         lines.append(
             f"field {name}: {f['components']} component(s), range "
@@ -258,7 +262,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     result, lines = {}, []
-    boundary = boundary_polygon(args)
+    boundary = region_of(args.boundary)
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
         stats = interp.residual_summary(

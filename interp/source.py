@@ -40,6 +40,7 @@ def load(
     order: int = 1,
     max_edge: float | None = None,
     boundary: object | None = None,
+    breaklines: list[object] | None = None,
     field: str | None = None,
 ) -> dict[str, Field]:
     """Read a source file as named fields.
@@ -53,8 +54,10 @@ def load(
         Point files only: the coordinate columns; every other numeric column
         is a field.  The default ``("x", "y")`` makes ``z`` of a survey file
         its value.
-    order, max_edge, boundary
-        Point files only: passed to :func:`interp.fit`.
+    order, max_edge, boundary, breaklines
+        Point files only: passed to :func:`interp.fit`.  Breakline values
+        are used when one field is fitted; with several, the lines are used
+        as x, y only (each field's values along them come from its data).
     field : str, optional
         Keep only this field.
 
@@ -75,8 +78,11 @@ def load(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
             )
         chosen = choose_fields(values, field, path)
+        if breaklines is not None and len(chosen) > 1:
+            breaklines = [np.asarray(line, dtype=float)[:, :2] for line in breaklines]
+        options = {"order": order, "max_edge": max_edge, "boundary": boundary}
         return {
-            name: fit(points, v, order=order, max_edge=max_edge, boundary=boundary, name=name)
+            name: fit(points, v, **options, breaklines=breaklines, name=name)
             for name, v in chosen.items()
         }
     mesh, data = read(path)

@@ -163,13 +163,24 @@ def test_no_cell_left_after_dropping_flat_ones():
 
 
 def test_point_left_out_by_qhull_is_reported(rng):
-    # a point 1e-15 from another is not an exact duplicate, yet Qhull cannot use both
-    pts = rng.random((100, 2))
+    # 3D (Qhull): a point 1e-15 from another is not an exact duplicate, yet Qhull cannot
+    # use both
+    pts = rng.random((100, 3))
     near = np.vstack([pts, pts[5] + 1e-15])
     with pytest.warns(UserWarning, match="1 point\\(s\\) are in no cell, the first at index"):
         mesh = triangulate(near)
     assert mesh.n_nodes == 101
     assert np.unique(mesh.cells).size == 100
+
+
+def test_near_point_is_a_vertex_in_2d(rng):
+    # 2D (exact predicates): the same point is a vertex; the cells between the two are
+    # too thin for a Mesh and dropped, losing no measurable area (scipy's ConvexHull)
+    pts = rng.random((100, 2))
+    near = np.vstack([pts, pts[5] + 1e-15])
+    mesh = triangulate(near)
+    assert np.unique(mesh.cells).size == 101
+    assert mesh.measure().sum() == pytest.approx(ConvexHull(near).volume, rel=1e-12)
 
 
 def test_non_numeric_input_named():
@@ -199,8 +210,10 @@ def test_merge_duplicates_matches_numpy_unique_rows(pts):
     assert inverse.dtype == np.int64
 
 
-def test_boundary_polygon_with_a_hole_drops_cells_by_centroid():
-    # reference: shapely tests each kept cell's centroid against the polygon with its hole
+def test_boundary_polygon_with_a_hole_is_covered_exactly():
+    # reference: shapely's area of the polygon with its hole within the points' convex
+    # hull, and its test of each kept cell's centroid; the boundary's edges are
+    # inserted, so no cell straddles them
     import shapely
 
     from interp import Polygon
@@ -208,11 +221,12 @@ def test_boundary_polygon_with_a_hole_drops_cells_by_centroid():
     pts = np.random.default_rng(4).random((300, 2)) * 10
     square = [[1, 1], [9, 1], [9, 9], [1, 9]]
     hole = [[4, 4], [6, 4], [6, 6], [4, 6]]
-    full = triangulate(pts)
     kept = triangulate(pts, boundary=Polygon(square, [hole]))
-    centroids = full.points[full.cells].mean(axis=1)
-    expect = shapely.contains_xy(shapely.Polygon(square, [hole]), centroids[:, 0], centroids[:, 1])
-    assert kept.n_cells == int(expect.sum())
-    np.testing.assert_array_equal(kept.cells, full.cells[expect])
+    hull = shapely.MultiPoint(pts).convex_hull
+    region = shapely.Polygon(square, [hole])
+    assert kept.measure().sum() == pytest.approx(region.intersection(hull).area, rel=1e-12)
+    centroids = kept.points[kept.cells].mean(axis=1)
+    assert shapely.contains_xy(region, centroids[:, 0], centroids[:, 1]).all()
     # one ring keeps the hole's cells
-    assert triangulate(pts, boundary=square).n_cells > kept.n_cells
+    whole = shapely.Polygon(square).intersection(hull).area
+    assert triangulate(pts, boundary=square).measure().sum() == pytest.approx(whole, rel=1e-12)

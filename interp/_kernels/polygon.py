@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import BIN_SLACK
+from interp._kernels.predicates import orient2d
 
 
 @numba.njit(cache=True, nogil=True)
@@ -87,64 +88,19 @@ def inside_many(points, lo, h, ny, seg, row_start, row_members, out):  # pragma:
 
 
 @numba.njit(cache=True, nogil=True)
-def _two_sum(a, b):  # pragma: no cover
-    x = a + b
-    bv = x - a
-    av = x - bv
-    return x, (a - av) + (b - bv)
-
-
-@numba.njit(cache=True, nogil=True)
-def _two_product(a, b):  # pragma: no cover
-    x = a * b
-    c = 134217729.0 * a
-    ahi = c - (c - a)
-    alo = a - ahi
-    c = 134217729.0 * b
-    bhi = c - (c - b)
-    blo = b - bhi
-    return x, alo * blo - (((x - ahi * bhi) - alo * bhi) - ahi * blo)
-
-
-@numba.njit(cache=True, nogil=True)
 def orient(ax, ay, bx, by, cx, cy):  # pragma: no cover
     """Exact sign of the turn a -> b -> c: 1 left, -1 right, 0 collinear.
 
-    A floating-point determinant decides when it is clear of its error bound
-    (Shewchuk's ccwerrboundA); otherwise the six products of the expanded
-    determinant are summed exactly as a floating-point expansion.
+    The sign of Shewchuk's adaptive exact predicate
+    :func:`interp._kernels.predicates.orient2d`.
 
     Examples
     --------
     >>> orient(0.0, 0.0, 1.0, 0.0, 0.0, 1.0), orient(0.1, 0.1, 0.3, 0.3, 0.7, 0.7)
     (1, 0)
     """
-    left = (ax - cx) * (by - cy)
-    right = (ay - cy) * (bx - cx)
-    d = left - right
-    bound = 3.3306690738754716e-16 * (abs(left) + abs(right))
-    if d > bound:
-        return 1
-    if -d > bound:
-        return -1
-    terms = np.empty(12)
-    pairs = ((ax, by), (bx, cy), (cx, ay), (-ay, bx), (-by, cx), (-cy, ax))
-    for k in range(6):
-        terms[2 * k], terms[2 * k + 1] = _two_product(pairs[k][0], pairs[k][1])
-    expansion = np.zeros(13)
-    n = 0
-    for k in range(12):
-        q = terms[k]
-        for i in range(n):
-            q, expansion[i] = _two_sum(q, expansion[i])
-        expansion[n] = q
-        n += 1
-    for i in range(n - 1, -1, -1):
-        if expansion[i] > 0.0:
-            return 1
-        if expansion[i] < 0.0:
-            return -1
-    return 0
+    o = orient2d(ax, ay, bx, by, cx, cy)
+    return 1 if o > 0.0 else (-1 if o < 0.0 else 0)
 
 
 @numba.njit(cache=True, nogil=True)

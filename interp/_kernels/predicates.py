@@ -65,68 +65,76 @@ def _split(a):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def two_product(a, b):  # pragma: no cover
-    """a * b as x + y exactly, x = fl(a * b) (Dekker's splitting)."""
+def _product_presplit(a, b, bhi, blo):  # pragma: no cover
+    """a * b as x + y exactly, b already split into bhi + blo."""
     x = a * b
     ahi, alo = _split(a)
-    bhi, blo = _split(b)
     return x, alo * blo - (((x - ahi * bhi) - alo * bhi) - ahi * blo)
+
+
+@numba.njit(cache=True, nogil=True)
+def two_product(a, b):  # pragma: no cover
+    """a * b as x + y exactly, x = fl(a * b) (Dekker's splitting)."""
+    bhi, blo = _split(b)
+    return _product_presplit(a, b, bhi, blo)
+
+
+@numba.njit(cache=True, nogil=True)
+def _keep(h, n, v):  # pragma: no cover
+    """Append v to h[:n] unless it is zero; the new length."""
+    if v != 0.0:
+        h[n] = v
+        return n + 1
+    return n
+
+
+@numba.njit(cache=True, nogil=True)
+def _close(h, n, q):  # pragma: no cover
+    """h[:n] with the last component q (kept when zero only if it is the only one)."""
+    if q != 0.0 or n == 0:
+        h[n] = q
+        n += 1
+    return h[:n]
+
+
+@numba.njit(cache=True, nogil=True)
+def _sum_rest(q, src, i, h, n):  # pragma: no cover
+    """Add src[i:] into the running sum q, keeping the non-zero tails in h."""
+    for j in range(i, src.size):
+        q, hh = two_sum(q, src[j])
+        n = _keep(h, n, hh)
+    return q, n
 
 
 @numba.njit(cache=True, nogil=True)
 def fast_expansion_sum_zeroelim(e, f):  # pragma: no cover
     """Exact sum of two expansions (components in increasing magnitude), zero
     components removed; the paper's FAST-EXPANSION-SUM.  Never empty: zero is [0.0]."""
-    elen = e.size
-    flen = f.size
-    h = np.empty(elen + flen)
+    h = np.empty(e.size + f.size)
     ei = 0
     fi = 0
-    enow = e[0]
-    fnow = f[0]
-    if (fnow > enow) == (fnow > -enow):
-        q = enow
-        ei += 1
-    else:
-        q = fnow
-        fi += 1
+    q = 0.0
     n = 0
-    first = True
-    while ei < elen and fi < flen:
+    while ei < e.size and fi < f.size:
         enow = e[ei]
         fnow = f[fi]
         if (fnow > enow) == (fnow > -enow):
-            if first:
-                q, hh = _fast_two_sum(enow, q)
-            else:
-                q, hh = two_sum(q, enow)
+            nxt = enow
             ei += 1
         else:
-            if first:
-                q, hh = _fast_two_sum(fnow, q)
-            else:
-                q, hh = two_sum(q, fnow)
+            nxt = fnow
             fi += 1
-        first = False
-        if hh != 0.0:
-            h[n] = hh
-            n += 1
-    while ei < elen:
-        q, hh = two_sum(q, e[ei])
-        ei += 1
-        if hh != 0.0:
-            h[n] = hh
-            n += 1
-    while fi < flen:
-        q, hh = two_sum(q, f[fi])
-        fi += 1
-        if hh != 0.0:
-            h[n] = hh
-            n += 1
-    if q != 0.0 or n == 0:
-        h[n] = q
-        n += 1
-    return h[:n]
+        if ei + fi == 1:
+            q = nxt
+            continue
+        if ei + fi == 2:
+            q, hh = _fast_two_sum(nxt, q)
+        else:
+            q, hh = two_sum(q, nxt)
+        n = _keep(h, n, hh)
+    q, n = _sum_rest(q, e, ei, h, n)
+    q, n = _sum_rest(q, f, fi, h, n)
+    return _close(h, n, q)
 
 
 @numba.njit(cache=True, nogil=True)
@@ -135,30 +143,15 @@ def scale_expansion_zeroelim(e, b):  # pragma: no cover
     paper's SCALE-EXPANSION.  Never empty: zero is [0.0]."""
     h = np.empty(2 * e.size)
     bhi, blo = _split(b)
-    q = e[0] * b
-    ahi, alo = _split(e[0])
-    hh = alo * blo - (((q - ahi * bhi) - alo * bhi) - ahi * blo)
-    n = 0
-    if hh != 0.0:
-        h[n] = hh
-        n += 1
+    q, hh = _product_presplit(e[0], b, bhi, blo)
+    n = _keep(h, 0, hh)
     for i in range(1, e.size):
-        enow = e[i]
-        p1 = enow * b
-        ahi, alo = _split(enow)
-        p0 = alo * blo - (((p1 - ahi * bhi) - alo * bhi) - ahi * blo)
+        p1, p0 = _product_presplit(e[i], b, bhi, blo)
         s, hh = two_sum(q, p0)
-        if hh != 0.0:
-            h[n] = hh
-            n += 1
+        n = _keep(h, n, hh)
         q, hh = _fast_two_sum(p1, s)
-        if hh != 0.0:
-            h[n] = hh
-            n += 1
-    if q != 0.0 or n == 0:
-        h[n] = q
-        n += 1
-    return h[:n]
+        n = _keep(h, n, hh)
+    return _close(h, n, q)
 
 
 @numba.njit(cache=True, nogil=True)
@@ -326,6 +319,12 @@ def incircle(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
+def _minus(a, d):  # pragma: no cover
+    """The rounded coordinate differences a - d of two 3D points."""
+    return a[0] - d[0], a[1] - d[1], a[2] - d[2]
+
+
+@numba.njit(cache=True, nogil=True)
 def _orient3d_exact(a, b, c, d):  # pragma: no cover
     adx = _exact_diff(a[0], d[0])
     ady = _exact_diff(a[1], d[1])
@@ -361,15 +360,9 @@ def orient3d(a, b, c, d):  # pragma: no cover
     >>> orient3d(o, x, y, np.array([0.3, 0.7, 0.0]))
     0.0
     """
-    adx = a[0] - d[0]
-    bdx = b[0] - d[0]
-    cdx = c[0] - d[0]
-    ady = a[1] - d[1]
-    bdy = b[1] - d[1]
-    cdy = c[1] - d[1]
-    adz = a[2] - d[2]
-    bdz = b[2] - d[2]
-    cdz = c[2] - d[2]
+    adx, ady, adz = _minus(a, d)
+    bdx, bdy, bdz = _minus(b, d)
+    cdx, cdy, cdz = _minus(c, d)
     bdxcdy = bdx * cdy
     cdxbdy = cdx * bdy
     cdxady = cdx * ady
@@ -439,18 +432,10 @@ def insphere(a, b, c, d, e):  # pragma: no cover
     >>> insphere(a, b, c, d, np.array([1.0, 1, 0]))
     0.0
     """
-    aex = a[0] - e[0]
-    bex = b[0] - e[0]
-    cex = c[0] - e[0]
-    dex = d[0] - e[0]
-    aey = a[1] - e[1]
-    bey = b[1] - e[1]
-    cey = c[1] - e[1]
-    dey = d[1] - e[1]
-    aez = a[2] - e[2]
-    bez = b[2] - e[2]
-    cez = c[2] - e[2]
-    dez = d[2] - e[2]
+    aex, aey, aez = _minus(a, e)
+    bex, bey, bez = _minus(b, e)
+    cex, cey, cez = _minus(c, e)
+    dex, dey, dez = _minus(d, e)
     aexbey = aex * bey
     bexaey = bex * aey
     bexcey = bex * cey
