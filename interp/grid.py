@@ -38,6 +38,10 @@ class Grid:
         Arrays of shape ``shape`` (+ components), NaN outside the mesh.
     units : dict of str to str
         Units of the fields that have them.
+    crs : str, optional
+        Coordinate reference system of the axes (``"EPSG:nnnn"`` or WKT),
+        stored by the formats that hold one (``.tif``, ``.nc``); None when
+        unknown.
 
     Examples
     --------
@@ -50,6 +54,7 @@ class Grid:
     axes: tuple[np.ndarray, ...]
     fields: dict[str, np.ndarray]
     units: dict[str, str] = field(default_factory=dict)
+    crs: str | None = None
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -83,8 +88,12 @@ class Grid:
         ``.csv``: one row per node, coordinates then fields (empty cell for
         NaN); ``.vti``: VTK XML image data (an open format read by ParaView
         and pyvista); ``.zarr``: a Zarr store written chunk by chunk (for
-        dask-backed grids larger than memory; needs the ``dask`` extra).  The
-        file is written atomically.
+        dask-backed grids larger than memory; needs the ``dask`` extra);
+        ``.tif``/``.tiff``: a GeoTIFF of a 2D grid, one band per field
+        component, with ``crs`` (needs the ``geotiff`` extra; see
+        :func:`interp._geotiff.write_geotiff`); ``.nc``: NetCDF through
+        xarray, with ``crs`` (needs the ``xarray`` extra; see
+        :func:`interp._xarray.write_netcdf`).  The file is written atomically.
 
         Examples
         --------
@@ -103,14 +112,38 @@ class Grid:
             return save_zarr(self, path)
         if suffix == ".csv":
             return write_table(path, *self._columns())
+        if suffix in (".tif", ".tiff"):  # GeoTIFF
+            from interp._geotiff import write_geotiff
+
+            return write_geotiff(path, self)
+        if suffix == ".nc":  # NetCDF
+            from interp._xarray import write_netcdf
+
+            return write_netcdf(path, self)
         writer = _WRITERS.get(suffix)
         if writer is None:
             raise InterpError(
-                f"cannot save a grid as {path.name!r}: use .csv, .zarr, {', '.join(_WRITERS)}"
+                f"cannot save a grid as {path.name!r}: use .csv, .zarr, .tif, .nc, "
+                f"{', '.join(_WRITERS)}"
             )
         with atomic_path(path) as tmp:
             writer(self, tmp)
         return path
+
+    def to_xarray(self):
+        """The grid as an ``xarray.Dataset`` with ``crs`` (needs the ``xarray`` extra).
+
+        See :func:`interp._xarray.grid_to_xarray`.
+
+        Examples
+        --------
+        >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))}, {"z": "m"})
+        >>> g.to_xarray()["z"].attrs["units"]
+        'm'
+        """
+        from interp._xarray import grid_to_xarray
+
+        return grid_to_xarray(self)
 
     def _columns(self) -> tuple[list[str], np.ndarray]:
         """Column names and the (N, k) table of node coordinates and field values."""
