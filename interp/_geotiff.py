@@ -15,8 +15,9 @@ apply the shift it implies; area with the shift is read the same way by all
 of them.
 
 Values are written as float64, the precision they were computed in (float32
-steps by about 0.06 mm at an elevation of 1000 m and by 1 mm at 10 km), with NaN as the nodata value, compressed without loss (deflate with
-the floating-point predictor).
+steps by about 0.06 mm at an elevation of 1000 m and by 1 mm at 10 km), with
+NaN as the nodata value, compressed without loss (deflate with the
+floating-point predictor).
 """
 
 from __future__ import annotations

@@ -179,9 +179,7 @@ def _check_options(
         every = 1
     elif isinstance(every, bool) or int(every) != every or every < 1:
         raise InterpError(f"every must be a positive whole number of points; got {every!r}")
-    if lowest_per_cell is not None and not (
-        np.isfinite(lowest_per_cell) and lowest_per_cell > 0
-    ):
+    if lowest_per_cell is not None and not (np.isfinite(lowest_per_cell) and lowest_per_cell > 0):
         raise InterpError(f"lowest_per_cell must be a positive cell size; got {lowest_per_cell!r}")
     return classes, int(every), lowest_per_cell
 

@@ -20,6 +20,7 @@ from interp.errors import InterpError
 from interp.grid import Grid
 from interp.io import atomic_path
 
+
 def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
     """CF grid-mapping attributes of a CRS and the CF attributes of its x, y axes."""
     pyproj = require("pyproj", "xarray", "storing a coordinate reference system in a Dataset")
@@ -38,9 +39,7 @@ def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
     elif parsed.is_projected:
         unit = parsed.axis_info[0].unit_name
         unit = "m" if unit == "metre" else unit
-        axes = [
-            {"standard_name": f"projection_{n}_coordinate", "units": unit} for n in "xy"
-        ]
+        axes = [{"standard_name": f"projection_{n}_coordinate", "units": unit} for n in "xy"]
     return parsed.to_cf(), axes
 
 

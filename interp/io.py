@@ -29,6 +29,8 @@ import numpy as np
 # meshio.read prints and exits the process when no reader fits; call the readers directly
 from meshio._helpers import reader_map
 
+from interp._geojson import is_geojson_file, read_geojson_polygon
+from interp._las import is_las_file, read_las
 from interp.errors import InterpError
 from interp.mesh import CELL_TYPES, Mesh
 from interp.polygon import as_ring
@@ -358,7 +360,9 @@ def read_points(
 
     The file format is that of :func:`iter_point_chunks`.  Text columns are
     skipped with a warning naming them.  A row with a missing or non-numeric
-    coordinate is an error naming its line.
+    coordinate is an error naming its line.  A ``.las`` or ``.laz`` point
+    cloud is read whole by :func:`interp._las.read_las` (coordinates
+    ``("x", "y")`` or ``("x", "y", "z")``; needs the ``las`` extra).
 
     Returns
     -------
@@ -375,6 +379,8 @@ def read_points(
     >>> points.tolist(), values["z"].tolist()
     ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
     """
+    if is_las_file(path):  # LAS/LAZ point clouds
+        return read_las(path, coords=coords)[:2]
     points, values, _, text_columns = _read_all(path, coords)
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
@@ -740,6 +746,8 @@ def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
     >>> [r.shape for r in read_polygon(path)]
     [(3, 2), (3, 2)]
     """
+    if is_geojson_file(path):  # GeoJSON polygons
+        return read_geojson_polygon(path)
     points, values, numbers, text_columns = _read_all(path, ("x", "y"))
     key = next((n for n in [*values, *text_columns] if n.lower() == "ring"), None)
     if key is None:

@@ -1,8 +1,8 @@
 """Sources: turning a file into fields, describing them, and sampling them file to file.
 
-A source is either a point file (delimited text with a header; its value
-columns are fitted on the fly with :func:`interp.fit`) or a mesh file that
-meshio reads (its point data are the fields).  These functions are what the
+A source is either a point file (delimited text with a header, or a LAS/LAZ
+point cloud; its value columns are fitted on the fly with :func:`interp.fit`)
+or a mesh file that meshio reads (its point data are the fields).  These functions are what the
 command line calls; they are as usable from Python.
 """
 
@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from interp._las import is_las_file, read_las
 from interp.errors import InterpError
 from interp.field import Field
 from interp.fit import fit
@@ -44,6 +45,9 @@ def load(
     max_edge: float | None = None,
     boundary: object | None = None,
     field: str | None = None,
+    classes: Sequence[int] | None = None,
+    every: int | None = None,
+    lowest_per_cell: float | None = None,
 ) -> dict[str, Field]:
     """Read a source file as named fields.
 
@@ -51,7 +55,9 @@ def load(
     ----------
     path : str or Path
         A point file (``.csv``, ``.txt``, ``.xyz``, ``.tsv``, ``.dat``,
-        ``.pts``) or a mesh file that meshio reads.
+        ``.pts``), a LAS/LAZ point cloud (``.las``, ``.laz``; ``z`` is its
+        value, extra dimensions further fields) or a mesh file that meshio
+        reads.
     coords : sequence of str
         Point files only: the coordinate columns; every other numeric column
         is a field.  The default ``("x", "y")`` makes ``z`` of a survey file
@@ -60,6 +66,10 @@ def load(
         Point files only: passed to :func:`interp.fit`.
     field : str, optional
         Keep only this field.
+    classes, every, lowest_per_cell
+        LAS/LAZ files only: classification codes to keep, every n-th point,
+        the lowest point per square cell of this size; see
+        :func:`interp._las.read_las`.
 
     Examples
     --------
@@ -70,8 +80,16 @@ def load(
     >>> float(f([[0.5, 0.0]])[0])
     1.5
     """
-    if is_point_file(path):
-        points, values = read_points(path, coords=tuple(coords))
+    thinning = {"classes": classes, "every": every, "lowest_per_cell": lowest_per_cell}
+    if not is_las_file(path) and any(v is not None for v in thinning.values()):
+        raise InterpError(
+            f"{path}: classes, every and lowest_per_cell apply to LAS/LAZ point clouds only"
+        )
+    if is_point_file(path) or is_las_file(path):
+        if is_las_file(path):  # LAS/LAZ point clouds
+            points, values, _ = read_las(path, coords=coords, **thinning)
+        else:
+            points, values = read_points(path, coords=tuple(coords))
         if not values:
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
