@@ -75,12 +75,12 @@ def _ring(positions: object, name: str) -> np.ndarray:
         xy = np.array([p[:2] for p in positions], dtype=np.float64)
     except (TypeError, ValueError):
         raise InterpError(f"{name}: a position holds something other than numbers") from None
-    if len(xy) >= 2 and (xy[0] != xy[-1]).any():
+    if len(xy) < 2 or (xy[0] != xy[-1]).any():
         raise InterpError(
             f"{name}: the ring is not closed (its last position must repeat the first, "
             "RFC 7946 section 3.1.6)"
         )
-    return as_ring(xy, name=name)
+    return as_ring(xy[:-1], name=name)
 
 
 def read_geojson_polygon(path: str | os.PathLike) -> list[np.ndarray]:

@@ -112,7 +112,7 @@ def write_geotiff(path: str | os.PathLike, grid: Grid, crs: str | None = None) -
     if crs is not None:
         try:
             crs = rasterio.crs.CRS.from_user_input(crs)
-        except rasterio.errors.CRSError as exc:
+        except (rasterio.errors.CRSError, ValueError) as exc:
             raise InterpError(
                 f"{path}: {crs!r} is not a coordinate reference system ({exc}); give "
                 "EPSG:nnnn or WKT"

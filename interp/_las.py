@@ -90,7 +90,7 @@ def exact_coordinates(raw: np.ndarray, scale: float, offset: float) -> np.ndarra
         bound = np.abs(raw).max(initial=0.0) * m + abs(shift)
         if (
             m >= 1
-            and abs(scale * p - m) <= 1e-9 * m
+            and abs(scale * p - m) <= 1e-14 * m
             and abs(offset * p - shift) <= 1e-6
             and bound < 2**53
         ):
