@@ -184,15 +184,37 @@ def _check_options(
     return classes, int(every), lowest_per_cell
 
 
-def _columns(record: object, header: object, extra: list[str]) -> dict[str, np.ndarray]:
-    """x, y, z (exact) and the extra dimensions of a point record, float64."""
+def _no_data(header: object) -> dict[str, np.ndarray]:
+    """The "no data" value of each extra dimension that has one, as stored (before scaling).
+
+    LAS 1.4 (R15), Extra Bytes record: option bit 0 says the no_data member
+    holds one.
+    """
+    out = {}
+    for vlr in header.vlrs.get("ExtraBytesVlr"):
+        for struct in vlr.extra_bytes_structs:
+            if struct.options & 1:
+                name = bytes(struct.name).rstrip(b"\0").decode("ascii", errors="replace")
+                out[name] = np.asarray(struct.no_data[:])
+    return out
+
+
+def _columns(
+    record: object, header: object, extra: list[str], no_data: dict[str, np.ndarray]
+) -> dict[str, np.ndarray]:
+    """x, y, z (exact) and the extra dimensions of a point record, float64; no data as NaN."""
     out = {
         axis: exact_coordinates(np.asarray(getattr(record, axis.upper())), scale, offset)
         for axis, scale, offset in zip("xyz", header.scales, header.offsets, strict=True)
     }
     for name in extra:
         values = np.asarray(record[name], dtype=np.float64)
-        out[name] = values.reshape(len(values), -1) if values.ndim > 1 else values
+        values = values.reshape(len(values), -1) if values.ndim > 1 else values
+        if name in no_data:
+            stored = np.asarray(record.array[name]).reshape(values.shape)
+            flags = no_data[name][: values.shape[1]] if values.ndim > 1 else no_data[name][0]
+            values = np.where(stored == flags, np.nan, values)
+        out[name] = values
     return out
 
 
@@ -208,6 +230,7 @@ def _iter_columns(
         clash = sorted({"x", "y", "z"} & {n.lower() for n in extra})
         if clash:
             raise InterpError(f"{path}: extra dimensions named {clash} clash with x, y, z")
+        no_data = _no_data(header)
         found = np.zeros(256, dtype=np.int64)
         seen = kept = 0
         for record in reader.chunk_iterator(int(chunk_points)):
@@ -222,7 +245,7 @@ def _iter_columns(
                 seen += count
             if keep.any():
                 kept += int(keep.sum())
-                columns = _columns(record, header, extra)
+                columns = _columns(record, header, extra, no_data)
                 yield {name: v[keep] for name, v in columns.items()}
         if not kept:
             if classes is not None and header.point_count:
@@ -332,7 +355,7 @@ def read_las(
     points : ndarray (n, 2) or (n, 3) float64
     fields : dict of str to ndarray
         ``z`` (unless a coordinate), then each extra dimension by name,
-        (n,) or (n, c) float64.
+        (n,) or (n, c) float64, NaN where it holds its "no data" value.
     crs : str or None
         ``"EPSG:nnnn"`` or WKT from the header; None when it stores none.
 

@@ -165,6 +165,24 @@ def test_lowest_per_cell_keeps_the_first_of_equal_lows(tmp_path):
     assert fields["moisture"][order].tolist() == [1 / 7, 3 / 7]
 
 
+def test_extra_dimension_no_data_is_nan(tmp_path):
+    # LAS 1.4 Extra Bytes: no_data is compared with the stored value, before scaling
+    header = laspy.LasHeader(point_format=6, version="1.4")
+    header.add_extra_dim(laspy.ExtraBytesParams(name="m", type="f8", no_data=[-9999.0]))
+    header.add_extra_dim(
+        laspy.ExtraBytesParams(name="w", type="i2", scales=[0.1], offsets=[0.0], no_data=[-1])
+    )
+    header.add_extra_dim(laspy.ExtraBytesParams(name="g", type="u1"))
+    las = laspy.LasData(header)
+    las.x, las.y, las.z = [0.0, 1, 2], [0.0, 1, 2], [1.0, 2, 3]
+    las.m, las.w, las.g = [1.5, -9999, 2], [0.3, -0.1, 0.5], [0, 255, 7]
+    las.write(tmp_path / "nd.las")
+    _, fields, _ = read_las(tmp_path / "nd.las")
+    assert np.array_equal(fields["m"], [1.5, np.nan, 2.0], equal_nan=True)
+    assert np.allclose(fields["w"], [0.3, np.nan, 0.5], rtol=0, atol=1e-12, equal_nan=True)
+    assert fields["g"].tolist() == [0.0, 255.0, 7.0]
+
+
 def test_crs_as_geokeys_in_las_1_2(tmp_path):
     raw = np.array([[0, 0, 0], [1000, 0, 0], [0, 1000, 0]])
     write_cloud(
