@@ -418,7 +418,9 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("sample", "evaluate at the points of a query file", cmd_sample)
     p.add_argument("source", type=Path)
-    p.add_argument("query", type=Path, help="query point file (same --coords columns)")
+    p.add_argument(
+        "query", type=Path, help="query point file (same --coords columns) or LAS/LAZ cloud"
+    )
     p.add_argument("-o", "--output", type=Path, required=True, help="output CSV")
     p.add_argument(
         "--chunk-rows",

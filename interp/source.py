@@ -8,18 +8,18 @@ command line calls; they are as usable from Python.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from contextlib import ExitStack
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from interp._las import is_las_file, read_las
+from interp._las import is_las_file, iter_las_chunks, read_las
 from interp.errors import InterpError
 from interp.field import Field
 from interp.fit import fit
-from interp.grid import component_names
+from interp.grid import component_names, field_columns
 from interp.io import TableWriter, iter_point_chunks, read, read_points
 
 #: file extensions read as point files; anything else goes to meshio.
@@ -186,8 +186,11 @@ def sample_file(
 
     Each row of the query file is written unchanged, followed by one column
     per field (one per component for vector fields); points outside the mesh
-    get empty cells.  Memory stays bounded by ``chunk_rows`` however long the
-    file.  The output is written atomically.
+    get empty cells.  A LAS/LAZ query cloud (``.las``, ``.laz``) is streamed
+    the same way and written as comma-separated columns ``x, y`` (``z``) and
+    its fields (``z`` and extra dimensions), then the sampled fields.  Memory
+    stays bounded by ``chunk_rows`` however long the file.  The output is
+    written atomically.
 
     Parameters
     ----------
@@ -212,18 +215,35 @@ def sample_file(
     names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         writer = None
-        for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
+        for head, delimiter, text, points, lead in _query_blocks(query, coords, chunk_rows):
             if writer is None:
-                header = list(chunk.names) + names
-                writer = stack.enter_context(TableWriter(out, header, chunk.delimiter))
+                writer = stack.enter_context(TableWriter(out, head + names, delimiter))
             values = np.hstack(
-                [evaluate(f, chunk.points).reshape(len(chunk.points), -1) for f in fields.values()]
+                [evaluate(f, points).reshape(len(points), -1) for f in fields.values()]
             )
             outside += int(np.isnan(values).all(axis=1).sum())
-            writer.write(chunk.rows, values)
-            rows += len(chunk.points)
+            writer.write(text, values if lead is None else np.hstack([lead, values]))
+            rows += len(points)
             if progress:
                 progress(rows)
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
     return SampleReport(rows, outside, Path(out))
+
+
+def _query_blocks(
+    query: str | Path, coords: Sequence[str], chunk_rows: int
+) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None]]:
+    """Blocks of a query file: header, delimiter, raw rows, points, leading numbers.
+
+    A point file's rows are written back as they are (no leading numbers); a
+    LAS/LAZ cloud's points as comma-separated x, y(, z) and their fields.
+    """
+    if is_las_file(query):  # LAS/LAZ query clouds
+        for chunk in iter_las_chunks(query, coords=coords, chunk_points=chunk_rows):
+            columns = dict(zip(coords, chunk.points.T, strict=True)) | chunk.fields
+            head, lead = field_columns(columns, len(chunk.points))
+            yield head, ",", None, chunk.points, lead
+        return
+    for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
+        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None

@@ -229,6 +229,28 @@ def test_read_points_and_load_take_las(cloud):
     assert np.allclose(ground(node), decimals(las)[:, 2][keep[:5]], rtol=0, atol=1e-9)
 
 
+def test_sample_streams_a_las_query_cloud(cloud, tmp_path):
+    d, las = cloud
+    x, y, z = decimals(las).T
+    mesh = interp.Mesh(
+        [[x.min(), y.min()], [x.max(), y.min()], [x.min(), y.max()], [x.max(), y.max()]],
+        [[0, 1, 3], [0, 3, 2]],
+    )
+    nodes = mesh.points
+    # a P1 field reproduces the plane through its nodes (common practice)
+    plane = interp.Field(mesh, 3 * (nodes[:, 0] - OFFSETS[0]) + nodes[:, 1] - OFFSETS[1])
+    report = interp.source.sample_file(
+        {"design": plane}, d / "site.laz", tmp_path / "out.csv", chunk_rows=400
+    )
+    table = np.loadtxt(tmp_path / "out.csv", delimiter=",", skiprows=1)
+    header = (tmp_path / "out.csv").read_text().splitlines()[0]
+    assert header == "x,y,z,moisture,wear,design"
+    assert report.rows == len(x) and report.outside == 0
+    assert np.array_equal(table[:, :3], decimals(las))
+    want = 3 * (x - OFFSETS[0]) + y - OFFSETS[1]
+    assert np.allclose(table[:, 5], want, rtol=0, atol=1e-6)
+
+
 def plane_grid():
     """z = 2x - y + 100 on 5 x 4 nodes with one node outside the mesh (NaN)."""
     axes = (np.array([10.0, 12.0, 14.0, 16.0, 18.0]), np.array([50.0, 51.0, 52.0, 53.0]))
