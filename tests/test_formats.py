@@ -421,6 +421,11 @@ def test_geojson_not_json(tmp_path):
         interp.read_polygon(path)
 
 
+def cli(*args):
+    """Run the command line in this process; its exit status."""
+    return main([str(a) for a in args])
+
+
 def test_cli_las_to_geotiff(tmp_path, capsys):
     # ground (class 2) on the plane z = 0.5 x' - 0.25 y' + 10 (x', y' from the cloud's
     # corner), stored exactly in centimetres; noise (class 7) 50 m above.  A P1 surface
@@ -434,8 +439,8 @@ def test_cli_las_to_geotiff(tmp_path, capsys):
     z[classes == 7] += 5000
     write_cloud(tmp_path / "cloud.laz", np.column_stack([raw, z]), classes, crs="EPSG:32633")
     out = tmp_path / "dem.tif"
-    args = ["grid", tmp_path / "cloud.laz", "--classes", "2", "--spacing", "0.5", "--field", "z"]
-    assert main([*map(str, args), "-o", str(out)]) == 0
+    cloud = tmp_path / "cloud.laz"
+    assert cli("grid", cloud, "--classes", 2, "--spacing", 0.5, "--field", "z", "-o", out) == 0
     assert "CRS stored" in capsys.readouterr().out
     with rasterio.open(out) as src:
         assert src.crs.to_epsg() == 32633
@@ -445,63 +450,30 @@ def test_cli_las_to_geotiff(tmp_path, capsys):
     plane = 0.5 * (np.asarray(px) - OFFSETS[0]) - 0.25 * (np.asarray(py) - OFFSETS[1]) + 10
     assert values.shape == (21, 41)
     assert np.allclose(values.ravel(), plane, rtol=0, atol=1e-9)
-    with pytest.raises(SystemExit):
-        main(["grid", str(tmp_path / "cloud.laz"), "--every", "0", "--spacing", "1", "-o", "g.tif"])
+    with pytest.raises(SystemExit) as usage:
+        cli("grid", cloud, "--every", 0, "--spacing", 1, "-o", out)
+    assert usage.value.code == 2
 
 
 def test_cli_crs_option_and_geojson_region(tmp_path, capsys):
     rows = [f"{x},{y},{x + 2 * y}" for x in range(0, 41, 5) for y in range(0, 31, 5)]
     (tmp_path / "s.csv").write_text("x,y,z\n" + "\n".join(rows) + "\n")
     (tmp_path / "pad.geojson").write_text(json.dumps(POLYGON))
-    (tmp_path / "pad.csv").write_text(
-        "x,y,ring\n"
-        + "\n".join(f"{x},{y},0" for x, y in FRAME[:-1])
-        + "\n"
-        + "\n".join(f"{x},{y},1" for x, y in HOLE[:-1])
-        + "\n"
-    )
+    rings = [f"{x},{y},0" for x, y in FRAME[:-1]] + [f"{x},{y},1" for x, y in HOLE[:-1]]
+    (tmp_path / "pad.csv").write_text("x,y,ring\n" + "\n".join(rings) + "\n")
     results = []
     for region in ("pad.geojson", "pad.csv"):
-        assert (
-            main(
-                ["integrate", str(tmp_path / "s.csv"), "--region", str(tmp_path / region), "--json"]
-            )
-            == 0
-        )
+        assert cli("integrate", tmp_path / "s.csv", "--region", tmp_path / region, "--json") == 0
         results.append(json.loads(capsys.readouterr().out))
     assert results[0] == results[1]
+    # z = x + 2y over [0,40]x[0,30] less the hole [10,25]x[10,20], by hand:
+    # (24000 + 36000) - (2625 + 4500) = 52875 over an area of 1200 - 150 = 1050
     assert results[0]["z"]["measure"] == pytest.approx(1050.0, rel=1e-12)
+    assert results[0]["z"]["integral"] == pytest.approx(52875.0, rel=1e-12)
     out = tmp_path / "g.nc"
-    assert (
-        main(
-            [
-                "grid",
-                str(tmp_path / "s.csv"),
-                "--spacing",
-                "5",
-                "--crs",
-                "EPSG:2056",
-                "-o",
-                str(out),
-            ]
-        )
-        == 0
-    )
+    assert cli("grid", tmp_path / "s.csv", "--spacing", 5, "--crs", "EPSG:2056", "-o", out) == 0
     with xarray.open_dataset(out) as ds:
         assert pyproj.CRS.from_cf(ds["crs"].attrs).to_epsg() == 2056
-    assert (
-        main(
-            [
-                "grid",
-                str(tmp_path / "s.csv"),
-                "--spacing",
-                "5",
-                "--crs",
-                "EPSG:2056",
-                "-o",
-                str(tmp_path / "g.npz"),
-            ]
-        )
-        == 0
-    )
+    out = tmp_path / "g.npz"
+    assert cli("grid", tmp_path / "s.csv", "--spacing", 5, "--crs", "EPSG:2056", "-o", out) == 0
     assert "do not store a coordinate reference system" in capsys.readouterr().err
