@@ -166,7 +166,10 @@ def _check_options(
     classes: Sequence[int] | None, every: int | None, lowest_per_cell: float | None
 ) -> tuple[np.ndarray | None, int, float | None]:
     if classes is not None:
-        codes = np.unique(np.asarray(list(classes), dtype=np.float64))
+        try:
+            codes = np.unique(np.asarray(list(classes), dtype=np.float64))
+        except (TypeError, ValueError):
+            codes = np.array([np.nan])
         if not codes.size or (codes != np.round(codes)).any() or not (0 <= codes).all():
             raise InterpError(
                 f"classes must be whole classification codes 0 to 255, such as 2 (ground); "
@@ -308,15 +311,54 @@ def iter_las_chunks(
         yield LasChunk(*_split(columns, coords))
 
 
-def _lowest(columns: dict[str, np.ndarray], size: float) -> dict[str, np.ndarray]:
-    """The lowest point (smallest z; the first in file order on a tie) of each size x size cell."""
-    ix = np.floor(columns["x"] / size).astype(np.int64)
-    iy = np.floor(columns["y"] / size).astype(np.int64)
-    order = np.lexsort((columns["z"], iy, ix))
-    ix, iy = ix[order], iy[order]
-    first = np.r_[True, (ix[1:] != ix[:-1]) | (iy[1:] != iy[:-1])]
-    take = order[first]
-    return {name: v[take] for name, v in columns.items()}
+def _cell_keys(columns: dict[str, np.ndarray], size: float, origin: np.ndarray) -> np.ndarray:
+    """One int64 key per point for its size x size cell, cells counted from ``origin``."""
+    cells = [
+        np.floor(columns[a] / size).astype(np.int64) - o for a, o in zip("xy", origin, strict=True)
+    ]
+    if any(np.abs(c).max(initial=0) >= 2**31 for c in cells):
+        raise InterpError(
+            f"lowest_per_cell {size:g} is too small for the extent of the cloud (over 2**31 "
+            "cells along an axis); use a larger cell size"
+        )
+    return (cells[0] << 32) + cells[1]
+
+
+def _lowest(
+    keys: np.ndarray, columns: dict[str, np.ndarray]
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """The lowest point of each cell (the first in order on equal z), sorted by key."""
+    order = np.argsort(keys, kind="stable")
+    keys, z = keys[order], columns["z"][order]
+    start = np.r_[True, keys[1:] != keys[:-1]]
+    group = np.cumsum(start) - 1
+    low = np.flatnonzero(z == np.minimum.reduceat(z, np.flatnonzero(start))[group])
+    first = low[np.r_[True, group[low[1:]] != group[low[:-1]]]]
+    return keys[first], {name: v[order[first]] for name, v in columns.items()}
+
+
+def _merge_lowest(
+    kept: tuple[np.ndarray, dict[str, np.ndarray]],
+    new: tuple[np.ndarray, dict[str, np.ndarray]],
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Cells kept so far updated by a later chunk's lowest points, sorted by key.
+
+    A later point replaces a kept one only when strictly lower, so on a tie
+    the point earlier in the file stays.
+    """
+    (keys, columns), (new_keys, new_columns) = kept, new
+    at = np.searchsorted(keys, new_keys)
+    seen = at < len(keys)
+    seen[seen] = keys[at[seen]] == new_keys[seen]
+    lower = np.flatnonzero(seen)[new_columns["z"][seen] < columns["z"][at[seen]]]
+    for name, v in columns.items():
+        v[at[lower]] = new_columns[name][lower]
+    fresh = ~seen
+    keys = np.concatenate([keys, new_keys[fresh]])
+    # two sorted runs: the stable sort merges them in linear time
+    order = np.argsort(keys, kind="stable")
+    merged = {n: np.concatenate([v, new_columns[n][fresh]])[order] for n, v in columns.items()}
+    return keys[order], merged
 
 
 def read_las(
@@ -374,15 +416,22 @@ def read_las(
     path = Path(path)
     coords = _check_coords(coords)
     classes, every, lowest_per_cell = _check_options(classes, every, lowest_per_cell)
-    kept: dict[str, np.ndarray] | None = None
+    lowest: tuple[np.ndarray, dict[str, np.ndarray]] | None = None
     parts = []
     for columns in _iter_columns(path, classes, every, chunk_points):
         if lowest_per_cell is None:
             parts.append(columns)
             continue
-        if kept is not None:
-            columns = {n: np.concatenate([kept[n], v]) for n, v in columns.items()}
-        kept = _lowest(columns, lowest_per_cell)
-    if kept is None:
-        kept = {n: np.concatenate([p[n] for p in parts]) for n in parts[0]}
+        if lowest is None:
+            origin = np.floor(
+                [columns["x"][0] / lowest_per_cell, columns["y"][0] / lowest_per_cell]
+            )
+            origin = origin.astype(np.int64)
+        cells = _lowest(_cell_keys(columns, lowest_per_cell, origin), columns)
+        lowest = cells if lowest is None else _merge_lowest(lowest, cells)
+    kept = (
+        lowest[1]
+        if lowest is not None
+        else {n: np.concatenate([p[n] for p in parts]) for n in parts[0]}
+    )
     return (*_split(kept, coords), las_crs(path))

@@ -197,8 +197,9 @@ def test_las_errors(cloud, tmp_path, monkeypatch):
     d, _ = cloud
     with pytest.raises(InterpError, match=r"no points of class 5; the file's classes .* 1 \("):
         read_las(d / "site.las", classes=[5])
-    with pytest.raises(InterpError, match="classification codes"):
-        read_las(d / "site.las", classes=[2.5])
+    for classes in ([2.5], ["ground"], [-1], []):
+        with pytest.raises(InterpError, match="classification codes"):
+            read_las(d / "site.las", classes=classes)
     with pytest.raises(InterpError, match="every must be a positive"):
         read_las(d / "site.las", every=0)
     with pytest.raises(InterpError, match="lowest_per_cell must be a positive"):
