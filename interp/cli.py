@@ -154,13 +154,22 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         max_edge=args.max_edge,
         boundary=boundary,
         field=args.field,
-        **las_options(args),
+        **las_options(args, path or args.source),
     )
 
 
-def las_options(args: argparse.Namespace) -> dict:
-    """The LAS/LAZ reading options given on the command line."""
-    return {"classes": args.classes, "every": args.every, "lowest_per_cell": args.lowest_per_cell}
+def las_options(args: argparse.Namespace, path: Path) -> dict:
+    """The LAS/LAZ reading options given on the command line, checked against the source."""
+    options = {
+        "classes": args.classes,
+        "every": args.every,
+        "lowest_per_cell": args.lowest_per_cell,
+    }
+    if not is_las_file(path) and any(v is not None for v in options.values()):
+        raise interp.InterpError(
+            f"{path}: --classes, --every and --lowest-per-cell apply to .las/.laz sources only"
+        )
+    return options
 
 
 def region_of(path: Path | None) -> interp.Polygon | None:
@@ -306,8 +315,9 @@ def first_field(fields: dict[str, interp.Field]) -> interp.Field:
 
 
 def cmd_crossval(args: argparse.Namespace) -> None:
+    options = las_options(args, args.source)
     if is_las_file(args.source):  # LAS/LAZ point clouds
-        points, values, _ = read_las(args.source, coords=args.coords, **las_options(args))
+        points, values, _ = read_las(args.source, coords=args.coords, **options)
     else:
         points, values = interp.read_points(args.source, coords=args.coords)
     values = choose_fields(values, args.field, args.source)

@@ -478,3 +478,5 @@ def test_cli_crs_option_and_geojson_region(tmp_path, capsys):
     out = tmp_path / "g.npz"
     assert cli("grid", tmp_path / "s.csv", "--spacing", 5, "--crs", "EPSG:2056", "-o", out) == 0
     assert "do not store a coordinate reference system" in capsys.readouterr().err
+    assert cli("crossval", tmp_path / "s.csv", "--every", 2) == 1
+    assert "--every and --lowest-per-cell apply to .las/.laz" in capsys.readouterr().err
