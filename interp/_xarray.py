@@ -14,11 +14,15 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from interp._extras import require
 from interp.errors import InterpError
 from interp.grid import Grid
 from interp.io import atomic_path
+
+if TYPE_CHECKING:
+    import xarray
 
 
 def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
@@ -43,7 +47,7 @@ def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
     return parsed.to_cf(), axes
 
 
-def grid_to_xarray(grid: Grid, crs: str | None = None):
+def grid_to_xarray(grid: Grid, crs: str | None = None) -> xarray.Dataset:
     """The grid as an ``xarray.Dataset``, CF style, with the CRS when known.
 
     Parameters

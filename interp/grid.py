@@ -11,6 +11,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -19,6 +20,9 @@ from interp.field import Field
 from interp.index import CellIndex, Location
 from interp.io import atomic_path, write_table
 from interp.mesh import as_floats
+
+if TYPE_CHECKING:
+    import xarray
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -130,7 +134,7 @@ class Grid:
             writer(self, tmp)
         return path
 
-    def to_xarray(self):
+    def to_xarray(self) -> xarray.Dataset:
         """The grid as an ``xarray.Dataset`` with ``crs`` (needs the ``xarray`` extra).
 
         See :func:`interp._xarray.grid_to_xarray`.

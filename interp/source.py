@@ -2,8 +2,8 @@
 
 A source is either a point file (delimited text with a header, or a LAS/LAZ
 point cloud; its value columns are fitted on the fly with :func:`interp.fit`)
-or a mesh file that meshio reads (its point data are the fields).  These functions are what the
-command line calls; they are as usable from Python.
+or a mesh file that meshio reads (its point data are the fields).  These
+functions are what the command line calls; they are as usable from Python.
 """
 
 from __future__ import annotations
