@@ -248,8 +248,7 @@ def _iter_columns(
                 seen += count
             if keep.any():
                 kept += int(keep.sum())
-                columns = _columns(record, header, extra, no_data)
-                yield {name: v[keep] for name, v in columns.items()}
+                yield _columns(record if keep.all() else record[keep], header, extra, no_data)
         if not kept:
             if classes is not None and header.point_count:
                 present = ", ".join(f"{c} ({found[c]:,})" for c in np.flatnonzero(found))
