@@ -13,11 +13,13 @@ import sys
 import time
 import warnings
 from collections.abc import Sequence
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
 import interp
+from interp.io import is_las_file, las_crs, read_las_points
 from interp.source import choose_fields, describe, load, sample_file
 
 CAUTION = (
@@ -73,6 +75,30 @@ def names(text: str) -> tuple[str, ...]:
     return out
 
 
+def codes(text: str) -> list[int]:
+    """Parse a comma-separated list of classification codes 0-255 (an argparse type)."""
+    try:
+        out = [int(v) for v in text.split(",")]
+    except ValueError:
+        out = []
+    if not out or not all(0 <= v <= 255 for v in out):
+        raise argparse.ArgumentTypeError(
+            f"expected comma-separated classification codes 0-255, such as 2,8; got {text!r}"
+        )
+    return out
+
+
+def count(text: str) -> int:
+    """Parse a positive whole number (an argparse type)."""
+    try:
+        v = int(text)
+    except ValueError:
+        v = 0
+    if v < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {text!r}")
+    return v
+
+
 def positive(text: str) -> float:
     """Parse a positive number (an argparse type)."""
     v = numbers(text)
@@ -100,9 +126,22 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument(
         "--boundary",
         type=Path,
-        help="point files: POLYGON.csv; drop cells whose centroid is outside",
+        help="point files: POLYGON.csv or .geojson; drop cells whose centroid is outside",
     )
     g.add_argument("--field", help="use only this field (default: all)")
+    las = p.add_argument_group("LAS/LAZ point clouds (z is the value; needs the las extra)")
+    las.add_argument(
+        "--classes",
+        type=codes,
+        help="keep only these classification codes, e.g. 2 (ground) or 2,8",
+    )
+    las.add_argument("--every", type=count, metavar="N", help="keep every N-th point")
+    las.add_argument(
+        "--lowest-per-cell",
+        type=positive,
+        metavar="SIZE",
+        help="keep the lowest point in each SIZE x SIZE cell (ground from a raw cloud)",
+    )
 
 
 def boundary_polygon(args: argparse.Namespace) -> interp.Polygon | None:
@@ -123,7 +162,22 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         max_edge=args.max_edge,
         boundary=boundary,
         field=args.field,
+        **las_options(args, path or args.source),
     )
+
+
+def las_options(args: argparse.Namespace, path: Path) -> dict:
+    """The LAS/LAZ reading options given on the command line, checked against the source."""
+    options = {
+        "classes": args.classes,
+        "every": args.every,
+        "lowest_per_cell": args.lowest_per_cell,
+    }
+    if not is_las_file(path) and any(v is not None for v in options.values()):
+        raise interp.InterpError(
+            f"{path}: --classes, --every and --lowest-per-cell apply to .las/.laz sources only"
+        )
+    return options
 
 
 def region_of(path: Path | None) -> interp.Polygon | None:
@@ -166,17 +220,33 @@ def cmd_info(args: argparse.Namespace) -> None:
     emit(args, info, lines)
 
 
+#: grid outputs that store a coordinate reference system.
+CRS_SUFFIXES = (".tif", ".tiff", ".nc")
+
+
 def cmd_grid(args: argparse.Namespace) -> None:
     fields = open_source(args)
     stage(args, "evaluating the grid")
     grid = interp.to_grid(fields, spacing=args.spacing, bounds=args.bounds)
+    crs = args.crs or (las_crs(args.source) if is_las_file(args.source) else None)
+    if crs is not None:
+        grid = replace(grid, crs=crs)
+        if args.output.suffix.lower() not in CRS_SUFFIXES:
+            warnings.warn(
+                f"{args.output.suffix} files do not store a coordinate reference system; "
+                "write .tif or .nc to keep it",
+                stacklevel=1,
+            )
     stage(args, f"writing {args.output}")
     out = grid.save(args.output)
     inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
+    stored = ""
+    if args.output.suffix.lower() in CRS_SUFFIXES:
+        stored = ", no CRS stored (give --crs)" if crs is None else ", CRS stored"
     if not args.quiet:
         print(
             f"wrote {out}: {' x '.join(map(str, grid.shape))} grid, fields "
-            f"{', '.join(grid.names)}, {inside:,} values inside the mesh"
+            f"{', '.join(grid.names)}, {inside:,} values inside the mesh{stored}"
         )
 
 
@@ -253,7 +323,11 @@ def first_field(fields: dict[str, interp.Field]) -> interp.Field:
 
 
 def cmd_crossval(args: argparse.Namespace) -> None:
-    points, values = interp.read_points(args.source, coords=args.coords)
+    options = las_options(args, args.source)
+    if is_las_file(args.source):  # LAS/LAZ point clouds
+        points, values = read_las_points(args.source, coords=args.coords, **options)
+    else:
+        points, values = interp.read_points(args.source, coords=args.coords)
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
@@ -304,7 +378,7 @@ def cmd_demo(args: argparse.Namespace) -> None:
 
 EXAMPLES = {
     "info": "interp info data/yard_2026_03.csv",
-    "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 -o yard.npz",
+    "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 --crs EPSG:32633 -o yard.tif",
     "sample": "interp sample data/yard_2026_03.csv query.csv -o sampled.csv",
     "profile": "interp profile data/yard_2026_03.csv --line 0,20,80,20 --step 0.5 -o section.csv",
     "integrate": "interp integrate data/yard_2026_03.csv --region data/yard_boundary.csv",
@@ -345,16 +419,29 @@ def build_parser() -> argparse.ArgumentParser:
     source_options(p)
     json_flag(p)
 
-    p = add("grid", "evaluate on a regular grid (.npz, .csv, .vti)", cmd_grid)
+    p = add("grid", "evaluate on a regular grid (.tif, .nc, .npz, .csv, .vti, .zarr)", cmd_grid)
     p.add_argument("source", type=Path)
     p.add_argument("--spacing", type=positive, required=True, help="grid node spacing")
     p.add_argument("--bounds", type=numbers, help="xmin,xmax,ymin,ymax[,zmin,zmax]")
-    p.add_argument("-o", "--output", type=Path, required=True, help="output .npz, .csv or .vti")
+    p.add_argument(
+        "-o",
+        "--output",
+        type=Path,
+        required=True,
+        help="output .tif (GeoTIFF, 2D), .nc (NetCDF), .npz, .csv, .vti or .zarr",
+    )
+    p.add_argument(
+        "--crs",
+        help="coordinate reference system stored in .tif/.nc, EPSG:nnnn or WKT "
+        "(default: that of a LAS/LAZ source; none otherwise)",
+    )
     source_options(p)
 
     p = add("sample", "evaluate at the points of a query file", cmd_sample)
     p.add_argument("source", type=Path)
-    p.add_argument("query", type=Path, help="query point file (same --coords columns)")
+    p.add_argument(
+        "query", type=Path, help="query point file (same --coords columns) or LAS/LAZ cloud"
+    )
     p.add_argument("-o", "--output", type=Path, required=True, help="output CSV")
     p.add_argument(
         "--chunk-rows",
@@ -379,7 +466,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("integrate", "integral, measure and mean of each field", cmd_integrate)
     p.add_argument("source", type=Path)
-    p.add_argument("--region", type=Path, help="POLYGON.csv to integrate over")
+    p.add_argument("--region", type=Path, help="POLYGON.csv or .geojson to integrate over")
     source_options(p)
     json_flag(p)
 
@@ -387,7 +474,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("upper", type=Path, help="upper surface (point or mesh file)")
     p.add_argument("lower", type=Path, nargs="?", help="lower surface")
     p.add_argument("--level", type=float, help="a constant lower level instead of LOWER")
-    p.add_argument("--region", type=Path, help="POLYGON.csv to restrict to")
+    p.add_argument("--region", type=Path, help="POLYGON.csv or .geojson to restrict to")
     source_options(p)
     json_flag(p)
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -20,7 +21,10 @@ from interp._geometry import grid_nodes
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import CellIndex, Location
-from interp.io import read_zarr, save_grid
+from interp.io import grid_to_xarray, read_zarr, save_grid
+
+if TYPE_CHECKING:
+    import xarray
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -40,6 +44,10 @@ class Grid:
         Arrays of shape ``shape`` (+ components), NaN outside the mesh.
     units : dict of str to str
         Units of the fields that have them.
+    crs : str, optional
+        Coordinate reference system of the axes (``"EPSG:nnnn"`` or WKT),
+        stored by the formats that hold one (``.tif``, ``.nc``); None when
+        unknown.
 
     Examples
     --------
@@ -52,6 +60,7 @@ class Grid:
     axes: tuple[np.ndarray, ...]
     fields: dict[str, np.ndarray]
     units: dict[str, str] = field(default_factory=dict)
+    crs: str | None = None
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -84,8 +93,12 @@ class Grid:
         ``.csv``: one row per node, coordinates then fields (empty cell for
         NaN); ``.vti``: VTK XML image data (an open format read by ParaView
         and pyvista); ``.zarr``: a Zarr store written chunk by chunk (for
-        dask-backed grids larger than memory; needs the ``dask`` extra).  The
-        file is written atomically.
+        dask-backed grids larger than memory; needs the ``dask`` extra);
+        ``.tif``/``.tiff``: a GeoTIFF of a 2D grid, one band per field
+        component, with ``crs`` (needs the ``geotiff`` extra; see
+        :func:`interp.io._geotiff.write_geotiff`); ``.nc``: NetCDF through
+        xarray, with ``crs`` (needs the ``xarray`` extra; see
+        :func:`interp.io._xarray.write_netcdf`).  The file is written atomically.
 
         Examples
         --------
@@ -97,6 +110,19 @@ class Grid:
         ['x', 'y', 'z']
         """
         return save_grid(self, path)
+
+    def to_xarray(self) -> xarray.Dataset:
+        """The grid as an ``xarray.Dataset`` with ``crs`` (needs the ``xarray`` extra).
+
+        See :func:`interp.io._xarray.grid_to_xarray`.
+
+        Examples
+        --------
+        >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))}, {"z": "m"})
+        >>> g.to_xarray()["z"].attrs["units"]
+        'm'
+        """
+        return grid_to_xarray(self)
 
 
 def open_zarr(path: str | Path) -> Grid:

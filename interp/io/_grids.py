@@ -39,6 +39,7 @@ class GridLike(Protocol):
     axes: tuple[np.ndarray, ...]
     fields: dict[str, Any]
     units: dict[str, str]
+    crs: str | None
 
     @property
     def shape(self) -> tuple[int, ...]: ...

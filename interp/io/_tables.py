@@ -20,6 +20,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path
+from interp.io._las import is_las_file, read_las_points
 
 #: delimiters of point files, as written; " " stands for any run of whitespace.
 DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab", " ": "whitespace"}
@@ -147,7 +148,9 @@ def read_points(
 
     The file format is that of :func:`iter_point_chunks`.  Text columns are
     skipped with a warning naming them.  A row with a missing or non-numeric
-    coordinate is an error naming its line.
+    coordinate is an error naming its line.  A ``.las`` or ``.laz`` point
+    cloud is read whole by :func:`interp.io._las.read_las` (coordinates
+    ``("x", "y")`` or ``("x", "y", "z")``; needs the ``las`` extra).
 
     Returns
     -------
@@ -164,6 +167,8 @@ def read_points(
     >>> points.tolist(), values["z"].tolist()
     ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
     """
+    if is_las_file(path):  # LAS/LAZ point clouds
+        return read_las_points(path, coords=coords)
     points, values, _, text_columns = read_table(path, coords)
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
