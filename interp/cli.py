@@ -9,11 +9,16 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
+import signal
 import sys
+import threading
 import time
 import warnings
 from collections.abc import Sequence
+from contextlib import ExitStack
 from pathlib import Path
+from typing import NoReturn
 
 import numpy as np
 
@@ -25,6 +30,38 @@ CAUTION = (
     "applicable survey standards and licensed practice before using them for payment, design "
     "or safety decisions."
 )
+
+
+#: the optional extra that brings each lazily imported package.
+EXTRAS = {
+    "dask": "dask",
+    "distributed": "dask",
+    "zarr": "dask",
+    "pyvista": "view",
+    "vtk": "view",
+    "matplotlib": "view",
+}
+#: arguments naming input files, which no output may overwrite.
+INPUTS = ("source", "query", "upper", "lower", "boundary", "region")
+
+
+class Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line ``interp: error: ...``, exit 2."""
+
+    def error(self, message: str) -> NoReturn:
+        where = self.prog.removeprefix("interp").strip()
+        self.exit(
+            2,
+            f"interp: error: {where + ': ' if where else ''}{message} (see '{self.prog} --help')\n",
+        )
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM, raised like Ctrl-C so that the same clean-up runs."""
+
+
+def _terminate(signum, frame) -> NoReturn:
+    raise Terminated
 
 
 class Progress:
@@ -76,9 +113,20 @@ def names(text: str) -> tuple[str, ...]:
 def positive(text: str) -> float:
     """Parse a positive number (an argparse type)."""
     v = numbers(text)
-    if len(v) != 1 or not v[0] > 0:
+    if len(v) != 1 or not 0 < v[0] < np.inf:
         raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
     return v[0]
+
+
+def count(text: str) -> int:
+    """Parse a positive whole number (an argparse type)."""
+    try:
+        v = int(text)
+    except ValueError:
+        v = 0
+    if v < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {text!r}")
+    return v
 
 
 def source_options(p: argparse.ArgumentParser) -> None:
@@ -107,7 +155,8 @@ def source_options(p: argparse.ArgumentParser) -> None:
 
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
     stage(args, f"reading {path or args.source}")
-    boundary = interp.read_polygon(args.boundary)[0] if args.boundary else None
+    region = region_of(args.boundary)
+    boundary = region.rings[0] if region is not None else None
     return load(
         path or args.source,
         coords=args.coords,
@@ -122,7 +171,10 @@ def region_of(path: Path | None) -> interp.Polygon | None:
     if path is None:
         return None
     rings = interp.read_polygon(path)
-    return interp.Polygon(rings[0], holes=rings[1:])
+    try:
+        return interp.Polygon(rings[0], holes=rings[1:])
+    except interp.InterpError as exc:
+        raise interp.InterpError(f"{path}: {exc}") from None
 
 
 def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:
@@ -175,7 +227,22 @@ def cmd_grid(args: argparse.Namespace) -> None:
 def cmd_sample(args: argparse.Namespace) -> None:
     fields = open_source(args)
     progress = Progress("sampled", args.quiet)
-    report = sample_file(fields, args.query, args.output, coords=args.coords, progress=progress)
+    with ExitStack() as stack:
+        evaluate = None
+        if args.workers is not None or args.scheduler is not None:
+            from interp.parallel import evaluator
+
+            stage(args, "starting the dask workers")
+            evaluate = stack.enter_context(evaluator(args.workers, args.scheduler))
+        report = sample_file(
+            fields,
+            args.query,
+            args.output,
+            coords=args.coords,
+            chunk_rows=args.chunk_rows,
+            progress=progress,
+            evaluate=evaluate,
+        )
     progress.close()
     if not args.quiet:
         print(f"wrote {report.path}: {report.rows:,} rows, {report.outside:,} outside the mesh")
@@ -249,19 +316,21 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
+    region = region_of(args.boundary)
+    beyond = ~region.contains(points) if region is not None else np.zeros(len(points), bool)
     result, lines = {}, []
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
-        stats = interp.residual_summary(
-            points,
-            interp.crossvalidate(points, v, order=args.order, max_edge=args.max_edge),
-            worst=args.worst,
-        )
+        residuals = interp.crossvalidate(points, v, order=args.order, max_edge=args.max_edge)
+        residuals[beyond] = np.nan
+        stats = interp.residual_summary(points, residuals, worst=args.worst)
+        stats["outside_boundary"] = int(beyond.sum())
         result[name] = stats
         lines.append(
             f"{name}: {stats['count']:,} points, RMS {fmt(stats['rms'])}, "
             f"mean {fmt(stats['mean'])}, max |r| {fmt(stats['max_abs'])}, "
-            f"{stats['outside']:,} outside the hull of the others"
+            f"{stats['outside'] - stats['outside_boundary']:,} outside the hull of the others"
+            + (f", {stats['outside_boundary']:,} outside the boundary" if region else "")
         )
         for w in stats["worst"]:
             lines.append(f"  row {w['row']}: at {w['point']}, residual {w['residual']:.6g}")
@@ -305,12 +374,12 @@ EXAMPLES = {
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = Parser(
         prog="interp",
         description="Finite-element interpolation of survey and simulation fields.",
     )
     parser.add_argument("--version", action="version", version=f"interp {interp.__version__}")
-    common = argparse.ArgumentParser(add_help=False)
+    common = Parser(add_help=False)
     common.add_argument("-q", "--quiet", action="store_true", help="no progress or messages")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
@@ -347,13 +416,13 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", type=Path, required=True, help="output CSV")
     p.add_argument(
         "--chunk-rows",
-        type=int,
+        type=count,
         default=500_000,
         help="query rows read, evaluated and written at a time (default 500000)",
     )
     p.add_argument(
         "--workers",
-        type=int,
+        type=count,
         help="spread the evaluation over N local worker processes (dask extra)",
     )
     p.add_argument("--scheduler", help="address of a running dask.distributed scheduler")
@@ -409,10 +478,22 @@ def main(argv: Sequence[str] | None = None) -> int:
     interp 0.1.0
     """
     args = build_parser().parse_args(argv)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore" if args.quiet else "always")
-        warnings.showwarning = _note
-        return _run(args)
+    main_thread = threading.current_thread() is threading.main_thread()
+    previous = signal.signal(signal.SIGTERM, _terminate) if main_thread else None
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore" if args.quiet else "always")
+            warnings.showwarning = _note
+            code = _run(args)
+        sys.stdout.flush()
+    except BrokenPipeError:
+        # the reader of our output (``| head``) has gone: stop quietly, as pipes expect
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        code = 128 + signal.SIGPIPE
+    finally:
+        if main_thread:
+            signal.signal(signal.SIGTERM, previous)
+    return code
 
 
 def _note(message, category, filename, lineno, file=None, line=None) -> None:
@@ -420,17 +501,56 @@ def _note(message, category, filename, lineno, file=None, line=None) -> None:
     print(f"interp: note: {' '.join(str(message).split())}", file=sys.stderr)
 
 
+def _check_output(args: argparse.Namespace) -> None:
+    """Refuse an output path that names one of the input files."""
+    out = getattr(args, "output", None) or getattr(args, "screenshot", None)
+    if out is None:
+        return
+    for name in INPUTS:
+        given = getattr(args, name, None)
+        if given is not None and (
+            Path(given).resolve() == Path(out).resolve()
+            or (Path(given).exists() and Path(out).exists() and os.path.samefile(given, out))
+        ):
+            raise interp.InterpError(
+                f"the output {out} is also the input {given}; writing it would destroy the "
+                "input: give another output file"
+            )
+
+
 def _run(args: argparse.Namespace) -> int:
     try:
+        _check_output(args)
         args.func(args)
+    except BrokenPipeError:
+        raise
     except (ValueError, OSError) as exc:
-        message = " ".join(str(exc).split()) or type(exc).__name__
-        print(f"interp: error: {message}", file=sys.stderr)
-        return 1
+        return _error(" ".join(str(exc).split()) or type(exc).__name__)
+    except MemoryError as exc:
+        return _error(
+            f"not enough memory ({exc or 'allocation failed'}); use a larger spacing or step, "
+            "smaller bounds or fewer points"
+        )
+    except ModuleNotFoundError as exc:
+        extra = EXTRAS.get((exc.name or "").partition(".")[0])
+        if extra is None:
+            raise
+        return _error(
+            f"this needs the optional {extra!r} extra ({exc.name} is not installed); "
+            f"install it with: pip install 'interp[{extra}]'"
+        )
+    except Terminated:
+        print("interp: error: terminated (SIGTERM); no output written", file=sys.stderr)
+        return 128 + signal.SIGTERM
     except KeyboardInterrupt:
-        print("interp: error: interrupted", file=sys.stderr)
+        print("interp: error: interrupted; no output written", file=sys.stderr)
         return 130
     return 0
+
+
+def _error(message: str) -> int:
+    print(f"interp: error: {message}", file=sys.stderr)
+    return 1
 
 
 if __name__ == "__main__":

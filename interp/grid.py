@@ -8,9 +8,11 @@ outside the mesh.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
@@ -97,6 +99,8 @@ class Grid:
         """
         path = Path(path)
         suffix = path.suffix.lower()
+        if suffix != ".csv":
+            _check_names(self.fields, path)
         if suffix == ".zarr":
             from interp.parallel import save_zarr
 
@@ -116,6 +120,20 @@ class Grid:
         """Column names and the (N, k) table of node coordinates and field values."""
         names, cols = field_columns(self.fields, int(np.prod(self.shape)))
         return list("xyz"[: len(self.axes)]) + names, np.hstack([self.points(), cols])
+
+
+def _check_names(fields: Mapping[str, object], path: Path) -> None:
+    """Refuse field names that are not text (undecodable bytes of a non-UTF-8 source file)."""
+    for name in fields:
+        try:
+            name.encode("utf-8")
+        except UnicodeEncodeError:
+            shown = name.encode("utf-8", "surrogateescape").decode("latin-1")
+            raise InterpError(
+                f"cannot write {path}: the field name {shown!r} is not UTF-8 text (the source "
+                "file's header is in another encoding, such as Latin-1); save the source file "
+                "as UTF-8, or write a .csv grid, which keeps the bytes as they are"
+            ) from None
 
 
 def component_names(name: str, k: int) -> list[str]:
@@ -167,7 +185,7 @@ def _write_vti(grid: Grid, path: Path) -> None:
         data = np.ascontiguousarray(np.transpose(v, axes))
         raw = data.astype("<f8").tobytes()
         arrays.append(
-            f'<DataArray type="Float64" Name="{name}" NumberOfComponents="{comps}" '
+            f'<DataArray type="Float64" Name={quoteattr(name)} NumberOfComponents="{comps}" '
             f'format="appended" offset="{offset}"/>'
         )
         blocks.append(np.uint64(len(raw)).tobytes() + raw)
@@ -200,8 +218,65 @@ def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]
     >>> [a.tolist() for a in grid_axes(np.array([[0.0, 0.0], [1.0, 0.5]]), np.array([0.5, 0.5]))]
     [[0.0, 0.5, 1.0], [0.0, 0.5]]
     """
-    n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9).astype(np.int64) + 1
+    n = grid_shape(bounds, spacing)
     return tuple(lo + s * np.arange(k) for lo, s, k in zip(bounds[0], spacing, n, strict=True))
+
+
+def grid_shape(bounds: np.ndarray, spacing: np.ndarray) -> tuple[int, ...]:
+    """Number of nodes along each axis, as Python integers (exact however large).
+
+    Examples
+    --------
+    >>> grid_shape(np.array([[0.0, 0.0], [1.0, 1e12]]), np.array([0.5, 1e-3]))
+    (3, 1000000000000001)
+    """
+    with np.errstate(over="ignore"):
+        n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9)
+    # beyond 1e18 nodes an axis is absurd anyway; the cap keeps products within float range
+    return tuple(int(k) + 1 for k in np.minimum(n, 1e18).tolist())
+
+
+def check_size(shape: tuple[int, ...], components: int, limit: int = MAX_NODES) -> None:
+    """Refuse, before allocating, a grid of more than ``limit`` nodes, saying what it would need.
+
+    Examples
+    --------
+    >>> check_size((1000, 1000), 1)
+    >>> check_size((10**6, 10**6), 1)  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    interp.errors.InterpError: a grid of 1,000,000 x 1,000,000 = ... nodes would need 7.3 TiB ...
+    """
+    total = math.prod(shape)
+    if total > limit:
+        raise InterpError(
+            f"a grid of {' x '.join(map(_many, shape))} = {_many(total)} nodes would need "
+            f"{size_text(8 * total * components)} of memory for {components} value"
+            f"{'s' * (components != 1)} per node (at most {limit:,} nodes are evaluated in "
+            "memory); use a larger spacing or smaller bounds, or evaluate it in chunks through "
+            "dask (interp.to_grid(..., chunks=...))"
+        )
+
+
+def _many(k: int) -> str:
+    return f"{k:,}" if k < 10**15 else f"{k:.2e}"
+
+
+def size_text(nbytes: float) -> str:
+    """A byte count in binary units, such as ``'7.3 TiB'``.
+
+    Examples
+    --------
+    >>> size_text(512), size_text(3 * 2**30)
+    ('512 B', '3.0 GiB')
+    """
+    units = ["B", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"]
+    if nbytes >= 1024 ** len(units):
+        return f"{nbytes:.2e} B"
+    k = 0
+    while nbytes >= 1024 and k < len(units) - 1:
+        nbytes, k = nbytes / 1024, k + 1
+    return f"{nbytes:.0f} {units[k]}" if k == 0 else f"{nbytes:.1f} {units[k]}"
 
 
 def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str, Field]:
@@ -345,19 +420,18 @@ def to_grid(
             np.max([m.bounds[1] for m in meshes], axis=0),
         ]
     )
-    axes = grid_axes(grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim))
+    b, s = grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim)
+    shape = grid_shape(b, s)
+    components = sum(int(np.prod(f.values.shape[1:])) for f in named.values())
+    # a lazy grid still holds its axes in memory: bound each axis alike
+    check_size(shape if chunks is None else (max(shape),), components)
+    axes = grid_axes(b, s)
     units = {n: f.units for n, f in named.items() if f.units}
     if chunks is not None:
         from interp.parallel import grid as lazy_grid
 
         return Grid(axes, lazy_grid(named, axes, chunks), units)
-    shape = tuple(len(a) for a in axes)
-    total = int(np.prod(shape))
-    if total > MAX_NODES:
-        raise InterpError(
-            f"a grid of {total:,} nodes does not fit in memory; use a larger spacing or "
-            "evaluate it in chunks through dask (interp.to_grid(..., chunks=...))"
-        )
+    total = math.prod(shape)
     out = {
         name: np.empty((total,) + f.values.shape[1:], dtype=np.float64) for name, f in named.items()
     }

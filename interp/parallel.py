@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import os
 import shutil
+import socket
 import sys
 import uuid
 import weakref
@@ -40,6 +41,8 @@ if TYPE_CHECKING:
 ZARR_MARK = "interp.grid"
 #: version of the Zarr grid layout described in :func:`save_zarr`.
 ZARR_VERSION = 1
+#: seconds allowed to reach a dask scheduler.
+CONNECT_TIMEOUT = 10
 
 # a stable graph key per shipped object, so that one object used twice in a
 # computation is still sent once
@@ -407,6 +410,19 @@ def open_zarr(path: str | Path) -> Grid:
     return Grid(axes, fields, dict(attrs["units"]))
 
 
+def _probe(address: str) -> None:
+    """Open and close a TCP connection to a ``tcp://host:port`` scheduler, failing fast.
+
+    dask's client retries a refused or unresolvable address until its
+    timeout; this answers those at once (other protocols are left to dask).
+    """
+    from distributed.comm import parse_address, parse_host_port
+
+    protocol, location = parse_address(address)
+    if protocol == "tcp":
+        socket.create_connection(parse_host_port(location), timeout=CONNECT_TIMEOUT).close()
+
+
 def _evaluate_piece(points: np.ndarray, field: Field) -> np.ndarray:
     return field(points)
 
@@ -463,7 +479,10 @@ def evaluator(
             client = stack.enter_context(Client(cluster, set_as_default=False))
         else:
             try:
-                client = stack.enter_context(Client(scheduler, timeout=30, set_as_default=False))
+                _probe(scheduler)
+                client = stack.enter_context(
+                    Client(scheduler, timeout=CONNECT_TIMEOUT, set_as_default=False)
+                )
             except (OSError, ValueError) as exc:
                 raise InterpError(
                     f"cannot reach the dask scheduler at {scheduler!r} ({exc}); check the "

@@ -10,9 +10,12 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields, evaluate_fields, field_columns
+from interp.grid import as_fields, evaluate_fields, field_columns, size_text
 from interp.io import write_table
 from interp.mesh import Mesh, as_points
+
+#: the most sample points a profile holds in memory.
+MAX_SAMPLES = 50_000_000
 
 
 @dataclass(frozen=True)
@@ -106,7 +109,16 @@ def profile(
             f"the profile line repeats a vertex (segment {int(np.argmin(length))} has zero length)"
         )
     start = np.concatenate([[0.0], np.cumsum(length)])
-    count = np.ceil(length / step * (1 - 1e-12)).astype(np.int64)
+    with np.errstate(over="ignore"):
+        steps = np.ceil(length / step * (1 - 1e-12))
+    total = float(steps.sum()) + 1
+    if total > MAX_SAMPLES:
+        raise InterpError(
+            f"a profile of {total:,.0f} points every {step:g} along {start[-1]:g} would need "
+            f"{size_text(8 * total * (len(vertices[0]) + 4))} of memory (at most "
+            f"{MAX_SAMPLES:,} points); use a larger step"
+        )
+    count = steps.astype(np.int64)
     which = np.repeat(np.arange(len(seg)), count)
     local = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) * step
     distance = np.concatenate([start[which] + local, start[-1:]])
