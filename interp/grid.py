@@ -227,8 +227,8 @@ def grid_shape(bounds: np.ndarray, spacing: np.ndarray) -> tuple[int, ...]:
 
     Examples
     --------
-    >>> grid_shape(np.array([[0.0, 0.0], [1.0, 1e12]]), np.array([0.5, 1e-3]))
-    (3, 1000000000000001)
+    >>> grid_shape(np.array([[0.0, 0.0], [1.0, 3.0]]), np.array([0.5, 1e-6]))
+    (3, 3000001)
     """
     with np.errstate(over="ignore"):
         n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9)
