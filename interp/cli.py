@@ -148,7 +148,8 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument(
         "--boundary",
         type=Path,
-        help="point files: POLYGON.csv; drop cells whose centroid is outside",
+        help="point files: POLYGON.csv; drop cells whose centroid is outside "
+        "(crossval: points outside get no residual)",
     )
     g.add_argument("--field", help="use only this field (default: all)")
 
