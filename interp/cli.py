@@ -492,7 +492,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         code = 128 + signal.SIGPIPE
     finally:
-        if main_thread:
+        if previous is not None:
             signal.signal(signal.SIGTERM, previous)
     return code
 

@@ -17,7 +17,7 @@ import os
 import secrets
 import warnings
 from collections.abc import Iterator, Mapping, Sequence
-from contextlib import ExitStack, contextmanager
+from contextlib import ExitStack, contextmanager, suppress
 from dataclasses import dataclass
 from itertools import islice, repeat
 from pathlib import Path
@@ -69,18 +69,20 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
             f"{path.suffix or '.csv'}"
         )
     tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
+    # one block from the file's creation on: Ctrl-C or SIGTERM the moment after it still cleans up
     try:
-        os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
-    except OSError as exc:
-        raise InterpError(
-            f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
-            "check that it exists and is writable"
-        ) from None
-    try:
+        try:
+            os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
+        except OSError as exc:
+            raise InterpError(
+                f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
+                "check that it exists and is writable"
+            ) from None
         yield tmp
         os.replace(tmp, path)
     except BaseException:
-        tmp.unlink(missing_ok=True)
+        with suppress(OSError):
+            tmp.unlink()
         raise
 
 
