@@ -556,9 +556,9 @@ def long_query(tmp_path_factory):
 def test_interrupt_leaves_nothing(inputs, long_query, tmp_path, what, sig, code, word):
     if what == "grid":  # about 1.6 million nodes written as CSV: seconds
         command = [EXE, "grid", str(inputs / "s.csv"), "--spacing", "0.03", "-o", "g.csv"]
-    else:  # 1,000 rows at a time: the temporary output grows for seconds
+    else:  # 5 rows at a time: the temporary output grows for seconds
         command = [EXE, "sample", str(inputs / "s.csv"), str(long_query), "-o", "o.csv"]
-        command += ["--chunk-rows", "1000"]
+        command += ["--chunk-rows", "5"]
     returncode, err = _interrupt(command, tmp_path, sig)
     assert returncode == code, err
     lines = err.splitlines()
