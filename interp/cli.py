@@ -13,12 +13,15 @@ import sys
 import time
 import warnings
 from collections.abc import Sequence
+from contextlib import ExitStack
 from dataclasses import replace
 from pathlib import Path
+from typing import NoReturn
 
 import numpy as np
 
 import interp
+from interp._cli_run import run
 from interp.io import is_las_file, las_crs, read_las_points
 from interp.source import choose_fields, describe, load, sample_file
 
@@ -27,6 +30,17 @@ CAUTION = (
     "applicable survey standards and licensed practice before using them for payment, design "
     "or safety decisions."
 )
+
+
+class Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line ``interp: error: ...``, exit 2."""
+
+    def error(self, message: str) -> NoReturn:
+        where = self.prog.removeprefix("interp").strip()
+        self.exit(
+            2,
+            f"interp: error: {where + ': ' if where else ''}{message} (see '{self.prog} --help')\n",
+        )
 
 
 class Progress:
@@ -102,7 +116,7 @@ def count(text: str) -> int:
 def positive(text: str) -> float:
     """Parse a positive number (an argparse type)."""
     v = numbers(text)
-    if len(v) != 1 or not v[0] > 0:
+    if len(v) != 1 or not 0 < v[0] < np.inf:
         raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
     return v[0]
 
@@ -126,7 +140,8 @@ def source_options(p: argparse.ArgumentParser) -> None:
     g.add_argument(
         "--boundary",
         type=Path,
-        help="point files: POLYGON.csv or .geojson; drop cells whose centroid is outside",
+        help="point files: POLYGON.csv or .geojson; drop cells whose centroid is outside "
+        "(crossval: points outside get no residual)",
     )
     g.add_argument("--field", help="use only this field (default: all)")
     las = p.add_argument_group("LAS/LAZ point clouds (z is the value; needs the las extra)")
@@ -144,17 +159,9 @@ def source_options(p: argparse.ArgumentParser) -> None:
     )
 
 
-def boundary_polygon(args: argparse.Namespace) -> interp.Polygon | None:
-    """The ``--boundary`` polygon, holes included (None without the option)."""
-    if not args.boundary:
-        return None
-    rings = interp.read_polygon(args.boundary)
-    return interp.Polygon(rings[0], rings[1:])
-
-
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
     stage(args, f"reading {path or args.source}")
-    boundary = boundary_polygon(args)
+    boundary = region_of(args.boundary)
     return load(
         path or args.source,
         coords=args.coords,
@@ -184,7 +191,10 @@ def region_of(path: Path | None) -> interp.Polygon | None:
     if path is None:
         return None
     rings = interp.read_polygon(path)
-    return interp.Polygon(rings[0], holes=rings[1:])
+    try:
+        return interp.Polygon(rings[0], holes=rings[1:])
+    except interp.InterpError as exc:
+        raise interp.InterpError(f"{path}: {exc}") from None
 
 
 def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:
@@ -253,7 +263,22 @@ def cmd_grid(args: argparse.Namespace) -> None:
 def cmd_sample(args: argparse.Namespace) -> None:
     fields = open_source(args)
     progress = Progress("sampled", args.quiet)
-    report = sample_file(fields, args.query, args.output, coords=args.coords, progress=progress)
+    with ExitStack() as stack:
+        evaluate = None
+        if args.workers is not None or args.scheduler is not None:
+            from interp.parallel import evaluator
+
+            stage(args, "starting the dask workers")
+            evaluate = stack.enter_context(evaluator(args.workers, args.scheduler))
+        report = sample_file(
+            fields,
+            args.query,
+            args.output,
+            coords=args.coords,
+            chunk_rows=args.chunk_rows,
+            progress=progress,
+            evaluate=evaluate,
+        )
     progress.close()
     if not args.quiet:
         print(f"wrote {report.path}: {report.rows:,} rows, {report.outside:,} outside the mesh")
@@ -331,22 +356,23 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
+    region = region_of(args.boundary)
+    beyond = ~region.contains(points) if region is not None else np.zeros(len(points), bool)
     result, lines = {}, []
-    boundary = boundary_polygon(args)
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
-        stats = interp.residual_summary(
-            points,
-            interp.crossvalidate(
-                points, v, order=args.order, max_edge=args.max_edge, boundary=boundary
-            ),
-            worst=args.worst,
+        residuals = interp.crossvalidate(
+            points, v, order=args.order, max_edge=args.max_edge, boundary=region
         )
+        residuals[beyond] = np.nan
+        stats = interp.residual_summary(points, residuals, worst=args.worst)
+        stats["outside_boundary"] = int(beyond.sum())
         result[name] = stats
         lines.append(
             f"{name}: {stats['count']:,} points, RMS {fmt(stats['rms'])}, "
             f"mean {fmt(stats['mean'])}, max |r| {fmt(stats['max_abs'])}, "
-            f"{stats['outside']:,} outside the hull of the others"
+            f"{stats['outside'] - stats['outside_boundary']:,} outside the hull of the others"
+            + (f", {stats['outside_boundary']:,} outside the boundary" if region else "")
         )
         for w in stats["worst"]:
             lines.append(f"  row {w['row']}: at {w['point']}, residual {w['residual']:.6g}")
@@ -390,12 +416,12 @@ EXAMPLES = {
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = Parser(
         prog="interp",
         description="Finite-element interpolation of survey and simulation fields.",
     )
     parser.add_argument("--version", action="version", version=f"interp {interp.__version__}")
-    common = argparse.ArgumentParser(add_help=False)
+    common = Parser(add_help=False)
     common.add_argument("-q", "--quiet", action="store_true", help="no progress or messages")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
@@ -445,13 +471,13 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", type=Path, required=True, help="output CSV")
     p.add_argument(
         "--chunk-rows",
-        type=int,
+        type=count,
         default=500_000,
         help="query rows read, evaluated and written at a time (default 500000)",
     )
     p.add_argument(
         "--workers",
-        type=int,
+        type=count,
         help="spread the evaluation over N local worker processes (dask extra)",
     )
     p.add_argument("--scheduler", help="address of a running dask.distributed scheduler")
@@ -506,29 +532,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     >>> main(["--version"])  # doctest: +SKIP
     interp 0.1.0
     """
-    args = build_parser().parse_args(argv)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore" if args.quiet else "always")
-        warnings.showwarning = _note
-        return _run(args)
-
-
-def _note(message, category, filename, lineno, file=None, line=None) -> None:
-    """Show a warning from the library as one line on stderr."""
-    print(f"interp: note: {' '.join(str(message).split())}", file=sys.stderr)
-
-
-def _run(args: argparse.Namespace) -> int:
-    try:
-        args.func(args)
-    except (ValueError, OSError) as exc:
-        message = " ".join(str(exc).split()) or type(exc).__name__
-        print(f"interp: error: {message}", file=sys.stderr)
-        return 1
-    except KeyboardInterrupt:
-        print("interp: error: interrupted", file=sys.stderr)
-        return 130
-    return 0
+    return run(build_parser().parse_args(argv))
 
 
 if __name__ == "__main__":

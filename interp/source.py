@@ -98,11 +98,15 @@ def load(
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
             )
-        chosen = choose_fields(values, field, path)
-        return {
-            name: fit(points, v, order=order, max_edge=max_edge, boundary=boundary, name=name)
-            for name, v in chosen.items()
-        }
+        fields = {}
+        for name, v in choose_fields(values, field, path).items():
+            try:
+                fields[name] = fit(
+                    points, v, order=order, max_edge=max_edge, boundary=boundary, name=name
+                )
+            except InterpError as exc:
+                raise InterpError(f"{path}, column {name!r}: {exc}") from None
+        return fields
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
@@ -214,6 +218,11 @@ def sample_file(
     >>> (d / "o.csv").read_text().splitlines()
     ['id,x,y,z', 'A,0.25,0.25,3', 'B,5,5,']
     """
+    if Path(out).resolve() == Path(query).resolve():
+        raise InterpError(
+            f"the output {out} is the query file itself; writing it would destroy the query "
+            "file: give another output file"
+        )
     evaluate = evaluate or (lambda f, p: f(p))
     rows = outside = 0
     names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]

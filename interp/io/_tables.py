@@ -131,6 +131,13 @@ def iter_point_chunks(
                 break
         else:
             raise InterpError(f"{path}: the file is empty; expected a header row such as x,y,z")
+        binary = next((i for i, ch in enumerate(text) if ch < " " and ch not in "\t\r\n"), -1)
+        if binary >= 0:
+            raise InterpError(
+                f"{path}, line {line}, column {binary + 1}: control byte "
+                f"{ord(text[binary]):#04x} in the header; this is not a text point file "
+                "(binary data?): give delimited text with a header row such as x,y,z"
+            )
         layout = _layout(path, text.rstrip("\n"), coords)
         text_columns: dict[str, int] = {}
         while block := list(islice(file, int(chunk_rows))):
@@ -366,6 +373,7 @@ def _coordinate(path: Path, name: str, cells: list[str], numbers: np.ndarray) ->
     if i < 0:
         return column
     cell = cells[i].strip()
+    cell = cell if len(cell) <= 40 else cell[:40] + "..."
     if not cell:
         problem = f"the {name} coordinate is missing"
     elif i == bad:
