@@ -14,6 +14,7 @@ Examples
 [1.0]
 """
 
+from interp._contour import Contours, contour_levels, contours
 from interp.clip import Pieces
 from interp.errors import InterpError
 from interp.field import Field
@@ -35,6 +36,7 @@ from interp.volume import Volumes, volume_between
 
 __all__ = [
     "Box",
+    "Contours",
     "Field",
     "Grid",
     "HalfSpace",
@@ -49,6 +51,8 @@ __all__ = [
     "Profile",
     "Region",
     "Volumes",
+    "contour_levels",
+    "contours",
     "crossvalidate",
     "fit",
     "integrate",

@@ -1,0 +1,601 @@
+"""Contour lines of a 2D field as data: polylines at given levels, saved as GeoJSON or CSV.
+
+P1 (linear) fields are contoured exactly by marching triangles: a level
+crosses an edge where one end is at or above it and the other below (a node
+value equal to the level counts as above), at the point found by linear
+interpolation from the end at or above the level.  Each crossed cell holds one
+segment between the crossings on two of its edges; segments are joined into
+polylines through the edges they share, keyed by the edge's node pair (never
+by comparing coordinates).  Lines are oriented with higher values on their
+left.  Where the level passes exactly through a node, the crossings on that
+node's edges coincide; repeated vertices are dropped, so no line holds a
+zero-length piece, and a line that shrinks to one point (a peak exactly at the
+level) is dropped.
+
+P2 (quadratic) fields are first split into s x s sub-triangles per cell, one
+s for the whole mesh, then contoured as P1 on the sub-triangles.  On a
+sub-triangle the quadratic differs from its linear interpolant by a quadratic
+that vanishes at the corners, ``4 sum_e d_e L_a L_b`` over the sub-edges e = (a,
+b), where d_e is the quadratic's deviation from the chord at the middle of the
+sub-edge; sub-edges are parallel to the cell's edges and 1/s as long, so d_e =
+D_e / s^2 with D_e the deviation at the cell edge's midpoint node, and since
+``sum L_a L_b <= 1/3`` the difference is at most ``(4/3) max |D_e| / s^2``
+everywhere in the cell.  s is the smallest whole number that brings this below
+``tolerance`` (in the field's units), so every point of a line lies where the
+field is within ``tolerance`` of the level.
+
+With ``region=`` the joined lines are cut where they cross the region's
+boundary and the pieces whose middle lies in the region are kept.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from interp.basis import shape
+from interp.clip import check_region, same_cells
+from interp.errors import InterpError
+from interp.field import Field
+from interp.io import atomic_path, write_table
+from interp.mesh import as_floats
+from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
+from interp.view import _lattice
+
+#: default P2 tolerance, as a fraction of the range of the field's node values.
+TOLERANCE = 1e-4
+#: most sub-triangles per edge of a P2 cell.
+MAX_SPLIT = 256
+#: most sub-triangles a P2 field is split into.
+MAX_SUBCELLS = 20_000_000
+#: most levels that ``interval=`` may give.
+MAX_LEVELS = 100_000
+#: local corner pairs of a triangle's edges (edge k joins corners k and k + 1).
+_SIDES = np.array([[0, 1], [1, 2], [2, 0]])
+
+
+@dataclass(frozen=True, eq=False)
+class Contours:
+    """Contour lines: for each line its level, its vertices and whether it is a closed ring.
+
+    Attributes
+    ----------
+    levels : ndarray (n,) float64
+        The level of each line; lines are sorted by level.
+    lines : tuple of ndarray (k, 2)
+        The vertices of each line, in order, higher values on the left.  A
+        closed ring repeats its first vertex at the end.
+    closed : ndarray (n,) bool
+        Whether each line is a closed ring.
+    tolerance : float
+        Bound on the difference between the field and the surface contoured:
+        0 for a P1 field (exact), the P2 subdivision's bound otherwise.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, Mesh, contours
+    >>> mesh = Mesh([[0.0, 0], [2, 0], [0, 2], [2, 2]], [[0, 1, 2], [1, 3, 2]])
+    >>> c = contours(Field(mesh, mesh.points[:, 0]), [1.0])
+    >>> len(c), c.lines[0].tolist(), bool(c.closed[0])
+    (1, [[1.0, 2.0], [1.0, 1.0], [1.0, 0.0]], False)
+    """
+
+    levels: np.ndarray
+    lines: tuple[np.ndarray, ...]
+    closed: np.ndarray
+    tolerance: float
+
+    def __len__(self) -> int:
+        return len(self.lines)
+
+    def summary(self) -> dict:
+        """Counts of lines, closed rings and vertices, and the levels that have lines.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> c = Contours(np.array([1.0]), (np.zeros((2, 2)),), np.array([False]), 0.0)
+        >>> c.summary()
+        {'lines': 1, 'closed': 0, 'vertices': 2, 'levels': [1.0], 'tolerance': 0.0}
+        """
+        return {
+            "lines": len(self),
+            "closed": int(np.count_nonzero(self.closed)),
+            "vertices": int(sum(len(v) for v in self.lines)),
+            "levels": np.unique(self.levels).tolist(),
+            "tolerance": self.tolerance,
+        }
+
+    def save(self, path: str | Path) -> Path:
+        """Write the lines atomically: GeoJSON (.geojson, .json) or CSV (.csv) by suffix.
+
+        GeoJSON (RFC 7946) is a FeatureCollection with one LineString feature
+        per line and properties ``level`` and ``closed``; coordinates are the
+        mesh's own (x, y), written as they are (RFC 7946 expects longitude and
+        latitude unless the reader is told otherwise; no ``crs`` member is
+        written).  CSV has columns ``x,y,level,line``, one row per vertex,
+        ``line`` numbering the lines from 0.
+
+        Examples
+        --------
+        >>> import json, tempfile
+        >>> c = Contours(np.array([1.0]), (np.array([[0.0, 0], [1, 1]]),), np.array([False]), 0.0)
+        >>> with tempfile.TemporaryDirectory() as d:
+        ...     text = c.save(Path(d) / "c.csv").read_text()
+        ...     gj = json.loads(c.save(Path(d) / "c.geojson").read_text())
+        >>> text.splitlines()
+        ['x,y,level,line', '0,0,1,0', '1,1,1,0']
+        >>> gj["features"][0]["geometry"]["coordinates"]
+        [[0.0, 0.0], [1.0, 1.0]]
+        """
+        path = Path(path)
+        suffix = path.suffix.lower()
+        if suffix == ".csv":
+            counts = np.array([len(v) for v in self.lines], dtype=np.int64)
+            xy = np.vstack(self.lines) if self.lines else np.zeros((0, 2))
+            line = np.repeat(np.arange(len(counts)), counts)
+            return write_table(path, ["x", "y", "level", "line"], [*xy.T, self.levels[line], line])
+        if suffix not in (".geojson", ".json"):
+            raise InterpError(
+                f"cannot write contours to {path}: unknown suffix {path.suffix!r}; "
+                "use .geojson (or .json) or .csv"
+            )
+        features = [
+            {
+                "type": "Feature",
+                "geometry": {"type": "LineString", "coordinates": v.tolist()},
+                "properties": {"level": float(level), "closed": bool(ring)},
+            }
+            for v, level, ring in zip(self.lines, self.levels, self.closed, strict=True)
+        ]
+        with atomic_path(path) as tmp:
+            tmp.write_text(json.dumps({"type": "FeatureCollection", "features": features}))
+        return path
+
+
+def contour_levels(field: Field, interval: float) -> np.ndarray:
+    """Levels at the multiples of ``interval`` within the range of a field's node values.
+
+    For a P2 field the quadratic may pass slightly beyond its node values
+    between nodes; levels are still taken within the node values' range.
+
+    Examples
+    --------
+    >>> from interp import Field, Mesh
+    >>> mesh = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
+    >>> contour_levels(Field(mesh, [0.2, 1.75, 1.0]), 0.5).tolist()
+    [0.5, 1.0, 1.5]
+    """
+    _check_field(field)
+    step = float(interval) if np.isscalar(interval) else math.nan
+    if not (np.isfinite(step) and step > 0):
+        raise InterpError(f"contour interval must be a positive number; got {interval!r}")
+    vals = field.values[np.isfinite(field.values)]
+    if vals.size == 0:
+        raise InterpError("the field has no values (NaN at every node): nothing to contour")
+    first, last = math.ceil(vals.min() / step), math.floor(vals.max() / step)
+    if last - first + 1 > MAX_LEVELS:
+        raise InterpError(
+            f"contour interval {step:g} gives {last - first + 1:,} levels over the field's range "
+            f"{vals.min():.6g}..{vals.max():.6g} (at most {MAX_LEVELS:,}); use a larger interval"
+        )
+    # 15 significant digits drop the round-off of k * step (3 * 0.1 -> 0.3)
+    return np.array([float(f"{k * step:.15g}") for k in range(first, last + 1)])
+
+
+def contours(
+    field: Field,
+    levels: object = None,
+    *,
+    interval: float | None = None,
+    region: Region | None = None,
+    tolerance: float | None = None,
+) -> Contours:
+    """Contour lines of a scalar field on a 2D triangle mesh, as polylines.
+
+    Parameters
+    ----------
+    field : Field
+        Scalar P1 or P2 field on triangles in the plane.  Cells with a NaN
+        node value are left out.
+    levels : sequence of float, optional
+        The levels to draw.
+    interval : float, optional
+        Instead of ``levels``: every multiple of ``interval`` within the range
+        of the field's node values (:func:`contour_levels`).
+    region : Region, optional
+        Keep only the parts of lines inside it: a Polygon, Box, HalfSpace, a
+        LevelSet of a field on this mesh, or their Intersection.
+    tolerance : float, optional
+        P2 only: bound, in the field's units, on the difference between the
+        quadratic and the piecewise-linear surface contoured (see the module
+        notes).  Default 1e-4 of the range of the node values.
+
+    Returns
+    -------
+    Contours
+
+    Raises
+    ------
+    InterpError
+        Not a scalar field on a 2D triangle mesh, neither or both of
+        ``levels`` and ``interval``, levels that are not finite numbers, a
+        tolerance that is not positive or would need too many sub-triangles.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from interp import Field, Polygon, contours, triangulate
+    >>> g = np.linspace(-2.0, 2.0, 9)
+    >>> mesh = triangulate(np.stack(np.meshgrid(g, g), axis=-1).reshape(-1, 2))
+    >>> cone = Field(mesh, np.hypot(*mesh.points.T))
+    >>> c = contours(cone, [1.0, 1.5])
+    >>> c.levels.tolist(), c.closed.tolist()
+    ([1.0, 1.5], [True, True])
+    >>> half = contours(cone, [1.0], region=Polygon([[0, -3], [3, -3], [3, 3], [0, 3]]))
+    >>> half.closed.tolist(), [float(v[:, 0].min()) for v in half.lines]
+    ([False], [0.0])
+    """
+    _check_field(field)
+    if (levels is None) == (interval is None):
+        raise InterpError(
+            "give the contour levels either as a list (levels=) or as an interval "
+            "(interval=), not both or neither"
+        )
+    if levels is None:
+        wanted = contour_levels(field, interval)
+    else:
+        wanted = as_floats(levels, "contour levels must be numbers").reshape(-1)
+        if wanted.size == 0 or not np.isfinite(wanted).all():
+            raise InterpError(f"contour levels must be one or more finite numbers; got {levels!r}")
+        wanted = np.unique(wanted)
+    if region is not None:
+        check_region(region, 2)
+    mesh = field.mesh
+    values = field.values.reshape(-1)
+    if mesh.order == 1:
+        points, tris, bound = mesh.points, mesh.cells, 0.0
+    else:
+        points, tris, values, bound = _split_p2(field, wanted, tolerance)
+    xy, offsets, line_level, closed = _trace(points, tris, values, wanted)
+    if region is not None:
+        xy, offsets, line_level, closed = _clip_lines(xy, offsets, line_level, closed, region, mesh)
+    lines = tuple(np.split(xy, offsets[1:-1])) if len(offsets) > 1 else ()
+    return Contours(wanted[line_level], lines, closed, bound)
+
+
+def _check_field(field: object) -> None:
+    if not isinstance(field, Field):
+        raise InterpError(f"contours need an interp.Field, not {type(field).__name__}")
+    mesh = field.mesh
+    if mesh.dim != 2 or mesh.gdim != 2:
+        raise InterpError(
+            f"contours are drawn on 2D meshes (triangles in the plane); this field's mesh has "
+            f"{mesh.cell_type} cells in {mesh.gdim}D: take a 2D surface or a planar section"
+        )
+    if field.n_components != 1:
+        raise InterpError(
+            f"contours need a scalar field; this one has {field.n_components} components"
+        )
+
+
+def _split_p2(
+    field: Field, levels: np.ndarray, tolerance: float | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """Sub-triangles of the P2 cells that a level may cross, with shared sub-nodes.
+
+    Returns the sub-nodes' points and values, the sub-triangles and the bound
+    on |quadratic - piecewise linear|.
+    """
+    mesh = field.mesh
+    vals = field.values.reshape(-1)
+    v = vals[mesh.cells]
+    corner, mid = v[:, :3], v[:, 3:]
+    # Bernstein coefficients bound the quadratic on its cell (convex hull property)
+    bern = np.hstack([corner, 2.0 * mid - 0.5 * (corner + corner[:, [1, 2, 0]])])
+    with np.errstate(invalid="ignore"):
+        lo, hi = bern.min(axis=1), bern.max(axis=1)
+    hit = np.flatnonzero(
+        np.isfinite(v).all(axis=1)
+        & (np.searchsorted(levels, lo, side="right") < np.searchsorted(levels, hi, side="right"))
+    )
+    finite = vals[np.isfinite(vals)]
+    if tolerance is None:
+        span = float(np.ptp(finite)) if finite.size else 0.0
+        tol = TOLERANCE * span if span > 0 else 1.0
+    else:
+        tol = float(tolerance) if np.isscalar(tolerance) else math.nan
+        if not (np.isfinite(tol) and tol > 0):
+            raise InterpError(f"contour tolerance must be a positive number; got {tolerance!r}")
+    worst = float(np.abs(mid[hit] - 0.5 * (corner[hit] + corner[hit][:, [1, 2, 0]])).max(initial=0))
+    s = max(1, math.ceil(math.sqrt(4.0 * worst / (3.0 * tol))))
+    if s > MAX_SPLIT or len(hit) * s * s > MAX_SUBCELLS:
+        raise InterpError(
+            f"contour tolerance {tol:g} needs {s} sub-triangles per edge of {len(hit):,} P2 "
+            f"cells (at most {MAX_SPLIT} and {MAX_SUBCELLS:,} sub-triangles); give a larger "
+            "tolerance"
+        )
+    bary, subs, _ = _lattice(s)
+    k = np.rint(bary * s).astype(np.int64)
+    corners = mesh.corners[hit]
+    cell_edges = mesh.edges()[1][hit]
+    n, n_edges = mesh.n_nodes, len(mesh.edges()[0])
+    ids = np.empty((len(hit), len(bary)), dtype=np.int64)
+    interior = (k > 0).all(axis=1)
+    ids[:, interior] = (
+        n
+        + n_edges * (s - 1)
+        + np.arange(len(hit))[:, None] * int(interior.sum())
+        + np.arange(int(interior.sum()))
+    )
+    for c in range(3):
+        ids[:, k[:, c] == s] = corners[:, [c]]
+    for e, (a, b) in enumerate(_SIDES):
+        on = (k[:, 3 - a - b] == 0) & (k[:, a] > 0) & (k[:, b] > 0)
+        pos = k[on, b]
+        forward = corners[:, [a]] < corners[:, [b]]
+        ids[:, on] = n + cell_edges[:, [e]] * (s - 1) + np.where(forward, pos, s - pos) - 1
+    uniq, inverse = np.unique(ids, return_inverse=True)
+    inverse = inverse.reshape(ids.shape)
+    xy = np.einsum("pk,mkd->mpd", bary, mesh.points[corners])
+    points = np.empty((len(uniq), 2))
+    points[inverse] = xy
+    sub_vals = np.empty(len(uniq))
+    sub_vals[inverse] = v[hit] @ shape(2, 2, bary).T
+    tris = inverse[:, subs].reshape(-1, 3)
+    return points, tris, sub_vals, 4.0 * worst / (3.0 * s * s)
+
+
+def _trace(
+    points: np.ndarray, tris: np.ndarray, values: np.ndarray, levels: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Contour lines of the piecewise-linear field on triangles, all levels at once.
+
+    Returns the vertices (v, 2) of all lines one after the other, the offsets
+    (n + 1,) of each line's vertices, each line's index into ``levels`` and
+    whether it is a closed ring (its first vertex repeated at its end).
+    """
+    v = values[tris]
+    keep = np.isfinite(v).all(axis=1)
+    tris, v = tris[keep], v[keep]
+    n = len(points)
+    pairs = tris[:, _SIDES]
+    keys = pairs.min(axis=2) * n + pairs.max(axis=2)
+    uniq, cell_edges = np.unique(keys, return_inverse=True)
+    cell_edges = cell_edges.reshape(keys.shape)
+    ea, eb = np.divmod(uniq, n)
+    # an edge crosses level L when lo < L <= hi: one end at or above L, the other below
+    va, vb = values[ea], values[eb]
+    first = np.searchsorted(levels, np.minimum(va, vb), side="right")
+    count = np.searchsorted(levels, np.maximum(va, vb), side="right") - first
+    start = np.concatenate([[0], np.cumsum(count)])
+    edge = np.repeat(np.arange(len(uniq)), count)
+    level = first[edge] + np.arange(start[-1]) - start[edge]
+    top_a = va[edge] >= levels[level]
+    up = np.where(top_a, ea[edge], eb[edge])
+    down = np.where(top_a, eb[edge], ea[edge])
+    frac = (values[up] - levels[level]) / (values[up] - values[down])
+    cross = points[up] + frac[:, None] * (points[down] - points[up])
+
+    # one segment per cell and level it spans, between the crossings on the two edges
+    # that meet at the corner on its own side of the level
+    lo, hi = v.min(axis=1), v.max(axis=1)
+    c_first = np.searchsorted(levels, lo, side="right")
+    c_count = np.searchsorted(levels, hi, side="right") - c_first
+    cell = np.repeat(np.arange(len(tris)), c_count)
+    c_start = np.concatenate([[0], np.cumsum(c_count)])
+    c_level = c_first[cell] + np.arange(c_start[-1]) - c_start[cell]
+    above = v[cell] >= levels[c_level][:, None]
+    odd_above = above.sum(axis=1) == 1
+    odd = np.where(odd_above, above.argmax(axis=1), above.argmin(axis=1))
+    e_next = cell_edges[cell, odd]
+    e_prev = cell_edges[cell, (odd + 2) % 3]
+    p_next = start[e_next] + c_level - first[e_next]
+    p_prev = start[e_prev] + c_level - first[e_prev]
+    corner = points[tris[cell]]
+    ccw = _cross(corner[:, 1] - corner[:, 0], corner[:, 2] - corner[:, 0]) > 0
+    # on a counter-clockwise cell the corner on the left of next -> prev is the odd one
+    forward = odd_above == ccw
+    tail = np.where(forward, p_next, p_prev)
+    head = np.where(forward, p_prev, p_next)
+    succ = np.full(len(cross), -1, dtype=np.int64)
+    succ[tail] = head
+    return _chain(succ, cross, level)
+
+
+def _chain(
+    succ: np.ndarray, cross: np.ndarray, level: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Join crossings into lines by their successors (-1 for none), with pointer jumping.
+
+    Each crossing has at most one successor and one predecessor, so the
+    crossings form paths and cycles.  Cycles are cut before their smallest
+    crossing; then every crossing's last crossing and distance to it give its
+    line and its place in it.
+    """
+    m = len(succ)
+    ids = np.arange(m)
+    steps = max(1, math.ceil(math.log2(m + 1)))
+    jump = np.where(succ >= 0, succ, ids)
+    low = ids.copy()
+    for _ in range(steps):
+        low = np.minimum(low, low[jump])
+        jump = jump[jump]
+    ring = succ[jump] >= 0
+    cut = ring & (succ >= 0) & (succ == low)
+    succ = np.where(cut, -1, succ)
+    jump = np.where(succ >= 0, succ, ids)
+    dist = (succ >= 0).astype(np.int64)
+    for _ in range(steps):
+        dist = dist + dist[jump]
+        jump = jump[jump]
+    # lines in order of level, then of their last crossing; crossings from first to last
+    order = np.lexsort((-dist, jump, level))
+    end = jump[order]
+    new_line = np.r_[True, end[1:] != end[:-1]]
+    line_of = np.cumsum(new_line) - 1
+    xy = cross[order]
+    line_closed = cut[end[new_line]]
+    # drop a vertex equal to the one before it on its line, or (on a ring) to its first
+    same = np.r_[False, (xy[1:] == xy[:-1]).all(axis=1) & ~new_line[1:]]
+    firsts = np.flatnonzero(new_line)
+    last = np.r_[firsts[1:], len(xy)] - 1
+    wrap = line_closed & (last > firsts) & (xy[last] == xy[firsts]).all(axis=1)
+    same[last[wrap]] = True
+    xy, line_of = xy[~same], line_of[~same]
+    counts = np.bincount(line_of, minlength=len(firsts))
+    good = counts >= np.where(line_closed, 3, 2)
+    keep = good[line_of]
+    xy, line_of = xy[keep], line_of[keep]
+    counts, line_closed = counts[good], line_closed[good]
+    line_level = level[order][new_line][good]
+    # close rings by repeating their first vertex
+    starts = np.concatenate([[0], np.cumsum(counts)])
+    closing = starts[1:][line_closed]
+    xy = np.insert(xy, closing, xy[starts[:-1][line_closed]], axis=0)
+    offsets = np.concatenate([[0], np.cumsum(counts + line_closed)])
+    return xy, offsets, line_level, line_closed
+
+
+def _clip_lines(
+    xy: np.ndarray,
+    offsets: np.ndarray,
+    line_level: np.ndarray,
+    closed: np.ndarray,
+    region: Region,
+    mesh: object,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """The parts of lines inside a region: segments cut where they cross its boundary,
+    pieces kept when their middle is inside, and consecutive pieces joined."""
+    n_lines = len(offsets) - 1
+    line = np.repeat(np.arange(n_lines), np.diff(offsets))
+    seg = np.flatnonzero(line[:-1] == line[1:]) if len(line) else np.zeros(0, dtype=np.int64)
+    a, b = xy[seg], xy[seg + 1]
+    cut_seg, cut_t = _cuts(a, b, region, mesh)
+    # pieces: every segment from t = 0, and from each cut inside it, to the next break
+    piece_seg = np.concatenate([np.arange(len(seg)), cut_seg])
+    t0 = np.concatenate([np.zeros(len(seg)), cut_t])
+    order = np.lexsort((t0, piece_seg))
+    piece_seg, t0 = piece_seg[order], t0[order]
+    last_of_seg = np.r_[piece_seg[1:] != piece_seg[:-1], True]
+    t1 = np.where(last_of_seg, 1.0, np.r_[t0[1:], 1.0])
+    real = t1 > t0
+    piece_seg, t0, t1 = piece_seg[real], t0[real], t1[real]
+    pa, pb = a[piece_seg], b[piece_seg]
+    inside = region.contains(pa + (0.5 * (t0 + t1))[:, None] * (pb - pa))
+    p_line = line[seg[piece_seg]]
+    if not inside.any():
+        return np.zeros((0, 2)), np.zeros(1, dtype=np.int64), line_level[:0], closed[:0]
+    # a run of kept pieces starts after a piece not kept or on another line
+    starts_run = inside & np.r_[True, ~inside[:-1] | (p_line[1:] != p_line[:-1])]
+    run = np.cumsum(starts_run) - 1
+    n_pieces = np.bincount(p_line, minlength=n_lines)
+    n_kept = np.bincount(p_line[inside], minlength=n_lines)
+    whole = closed & (n_kept == n_pieces) & (n_pieces > 0)
+    # a cut ring whose first and last pieces are kept: its last run leads into its first
+    first_piece = np.concatenate([[0], np.cumsum(n_pieces)])[:-1]
+    last_piece = first_piece + n_pieces - 1
+    wrap = np.flatnonzero(closed & ~whole & (n_pieces > 0))
+    wrap = wrap[inside[first_piece[wrap]] & inside[last_piece[wrap]]]
+    rank = np.arange(len(inside), dtype=np.int64)
+    n_runs = int(starts_run.sum())
+    into = np.arange(n_runs)
+    into[run[last_piece[wrap]]] = run[first_piece[wrap]]
+    moved = np.zeros(n_runs, dtype=bool)
+    moved[run[last_piece[wrap]]] = True
+    rank = np.where(inside & moved[np.maximum(run, 0)], rank - len(inside), rank)
+    run = np.where(inside, into[np.maximum(run, 0)], run)
+    kept = np.flatnonzero(inside)
+    kept = kept[np.lexsort((rank[kept], run[kept]))]
+    k_run = run[kept]
+    head = np.r_[True, k_run[1:] != k_run[:-1]]
+    pts0 = _at(pa[kept], pb[kept], t0[kept])
+    pts1 = _at(pa[kept], pb[kept], t1[kept])
+    # each run: the start of its first piece, then the end of every piece
+    out = np.empty((len(kept) + int(head.sum()), 2))
+    slot = np.arange(len(kept)) + np.cumsum(head)
+    out[slot] = pts1
+    out[slot[head] - 1] = pts0[head]
+    counts = np.bincount(np.cumsum(head) - 1, minlength=int(head.sum())) + 1
+    run_line = p_line[kept][head]
+    return (
+        out,
+        np.concatenate([[0], np.cumsum(counts)]),
+        line_level[run_line],
+        whole[run_line],
+    )
+
+
+def _at(a: np.ndarray, b: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Points at parameter t on segments a -> b, exactly a at 0 and b at 1."""
+    return np.where((t == 1.0)[:, None], b, a + t[:, None] * (b - a))
+
+
+def _cuts(a: np.ndarray, b: np.ndarray, region: Region, mesh: object) -> tuple[np.ndarray, ...]:
+    """Where segments a -> b cross the boundary of a region: segment indices and t in (0, 1)."""
+    if isinstance(region, Intersection):
+        parts = [_cuts(a, b, r, mesh) for r in region.regions]
+        return tuple(np.concatenate(c) for c in zip(*parts, strict=True))
+    if isinstance(region, Box):
+        return _cuts(a, b, Intersection(*region.half_spaces()), mesh)
+    if isinstance(region, HalfSpace):
+        return _sign_change(a @ region.normal - region.offset, b @ region.normal - region.offset)
+    if isinstance(region, LevelSet):
+        if not same_cells(region.field.mesh, mesh):
+            raise InterpError(
+                "the LevelSet's field is on another mesh than the contoured field; build the "
+                "LevelSet from a field on this mesh"
+            )
+        return _sign_change(region.excess(region.field(a)), region.excess(region.field(b)))
+    return _polygon_cuts(a, b, region)
+
+
+def _sign_change(da: np.ndarray, db: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Where a function linear along each segment, da at its start and db at its end, is 0."""
+    with np.errstate(invalid="ignore"):
+        hit = np.flatnonzero(((da < 0) & (db > 0)) | ((da > 0) & (db < 0)))
+    return hit, da[hit] / (da[hit] - db[hit])
+
+
+def _polygon_cuts(a: np.ndarray, b: np.ndarray, polygon: Polygon) -> tuple[np.ndarray, ...]:
+    """Crossings of segments with a polygon's edges, found through its edge grid's buckets."""
+    grid = polygon._grid
+    nx, ny = int(grid.shape[0]), int(grid.shape[1])
+    lo_xy = (np.minimum(a, b) - grid.lo) / grid.h
+    hi_xy = (np.maximum(a, b) - grid.lo) / grid.h
+    near = np.flatnonzero((hi_xy >= 0).all(axis=1) & (lo_xy[:, 0] <= nx) & (lo_xy[:, 1] <= ny))
+    i0 = np.clip(np.floor(lo_xy[near, 0]), 0, nx - 1).astype(np.int64)
+    i1 = np.clip(np.floor(hi_xy[near, 0]), 0, nx - 1).astype(np.int64)
+    j0 = np.clip(np.floor(lo_xy[near, 1]), 0, ny - 1).astype(np.int64)
+    j1 = np.clip(np.floor(hi_xy[near, 1]), 0, ny - 1).astype(np.int64)
+    wide = i1 - i0 + 1
+    n_buckets = wide * (j1 - j0 + 1)
+    owner = np.repeat(np.arange(len(near)), n_buckets)
+    k = np.arange(len(owner)) - np.repeat(np.cumsum(n_buckets) - n_buckets, n_buckets)
+    bucket = (j0[owner] + k // wide[owner]) * nx + i0[owner] + k % wide[owner]
+    n_members = grid.start[bucket + 1] - grid.start[bucket]
+    pair_seg = np.repeat(near[owner], n_members)
+    k = np.arange(len(pair_seg)) - np.repeat(np.cumsum(n_members) - n_members, n_members)
+    pair_edge = grid.members[np.repeat(grid.start[bucket], n_members) + k]
+    n_edges = len(grid.segments)
+    key = np.unique(pair_seg * n_edges + pair_edge)
+    s, e = np.divmod(key, n_edges)
+    p, r = a[s], b[s] - a[s]
+    q, d = grid.segments[e, :2], grid.segments[e, 2:] - grid.segments[e, :2]
+    w = q - p
+    denom = _cross(r, d)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = _cross(w, d) / denom
+        u = _cross(w, r) / denom
+        hit = (denom != 0) & (t > 0) & (t < 1) & (u >= 0) & (u <= 1)
+    return s[hit], t[hit]
+
+
+def _cross(u: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """z component of the cross product of rows of 2D vectors."""
+    return u[:, 0] * w[:, 1] - u[:, 1] * w[:, 0]
