@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import json
 import math
+import numbers
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -172,9 +173,7 @@ def contour_levels(field: Field, interval: float) -> np.ndarray:
     [0.5, 1.0, 1.5]
     """
     _check_field(field)
-    step = float(interval) if np.isscalar(interval) else math.nan
-    if not (np.isfinite(step) and step > 0):
-        raise InterpError(f"contour interval must be a positive number; got {interval!r}")
+    step = _positive(interval, "contour interval")
     vals = field.values[np.isfinite(field.values)]
     if vals.size == 0:
         raise InterpError("the field has no values (NaN at every node): nothing to contour")
@@ -284,6 +283,13 @@ def _check_field(field: object) -> None:
         )
 
 
+def _positive(value: object, what: str) -> float:
+    if isinstance(value, numbers.Real) and not isinstance(value, bool) and value > 0:
+        if math.isfinite(value):
+            return float(value)
+    raise InterpError(f"{what} must be a positive number; got {value!r}")
+
+
 def _split_p2(
     field: Field, levels: np.ndarray, tolerance: float | None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
@@ -309,9 +315,7 @@ def _split_p2(
         span = float(np.ptp(finite)) if finite.size else 0.0
         tol = TOLERANCE * span if span > 0 else 1.0
     else:
-        tol = float(tolerance) if np.isscalar(tolerance) else math.nan
-        if not (np.isfinite(tol) and tol > 0):
-            raise InterpError(f"contour tolerance must be a positive number; got {tolerance!r}")
+        tol = _positive(tolerance, "contour tolerance")
     worst = float(np.abs(mid[hit] - 0.5 * (corner[hit] + corner[hit][:, [1, 2, 0]])).max(initial=0))
     s = max(1, math.ceil(math.sqrt(4.0 * worst / (3.0 * tol))))
     if s > MAX_SPLIT or len(hit) * s * s > MAX_SUBCELLS:
@@ -437,29 +441,51 @@ def _chain(
     # lines in order of level, then of their last crossing; crossings from first to last
     order = np.lexsort((-dist, jump, level))
     end = jump[order]
-    new_line = np.r_[True, end[1:] != end[:-1]]
+    new_line = np.r_[True, end[1:] != end[:-1]][: len(end)]
     line_of = np.cumsum(new_line) - 1
-    xy = cross[order]
-    line_closed = cut[end[new_line]]
-    # drop a vertex equal to the one before it on its line, or (on a ring) to its first
-    same = np.r_[False, (xy[1:] == xy[:-1]).all(axis=1) & ~new_line[1:]]
-    firsts = np.flatnonzero(new_line)
-    last = np.r_[firsts[1:], len(xy)] - 1
-    wrap = line_closed & (last > firsts) & (xy[last] == xy[firsts]).all(axis=1)
-    same[last[wrap]] = True
-    xy, line_of = xy[~same], line_of[~same]
-    counts = np.bincount(line_of, minlength=len(firsts))
+    xy, line_of, line_closed = _simplify(cross[order], line_of, cut[end[new_line]])
+    counts = np.bincount(line_of, minlength=len(line_closed))
     good = counts >= np.where(line_closed, 3, 2)
     keep = good[line_of]
-    xy, line_of = xy[keep], line_of[keep]
+    xy = xy[keep]
     counts, line_closed = counts[good], line_closed[good]
     line_level = level[order][new_line][good]
-    # close rings by repeating their first vertex
+    # close rings by repeating their first vertex; an open line that ends where it
+    # starts (through a node at the level on the mesh's boundary) is a ring too
     starts = np.concatenate([[0], np.cumsum(counts)])
-    closing = starts[1:][line_closed]
-    xy = np.insert(xy, closing, xy[starts[:-1][line_closed]], axis=0)
-    offsets = np.concatenate([[0], np.cumsum(counts + line_closed)])
+    line_closed = line_closed | (xy[starts[:-1]] == xy[starts[1:] - 1]).all(axis=1)
+    ring = cut[end[new_line]][good]
+    closing = starts[1:][ring]
+    xy = np.insert(xy, closing, xy[starts[:-1][ring]], axis=0)
+    offsets = np.concatenate([[0], np.cumsum(counts + ring)])
     return xy, offsets, line_level, line_closed
+
+
+def _simplify(
+    xy: np.ndarray, line_of: np.ndarray, closed: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Drop vertices equal to the one before them, and the tips of spikes (a, b, a), on lines
+    (rings wrap around) until none is left.
+
+    Both come from nodes exactly at the level: the crossings on their edges coincide,
+    and an edge at the level with both sides below it is passed there and back.
+    """
+    while len(xy):
+        first = np.r_[True, line_of[1:] != line_of[:-1]]
+        last = np.r_[line_of[1:] != line_of[:-1], True]
+        idx = np.arange(len(xy))
+        head = np.maximum.accumulate(np.where(first, idx, 0))
+        tail = np.flatnonzero(last)[np.cumsum(first) - 1]
+        ring = closed[line_of]
+        prev = np.where(first, np.where(ring, tail, -1), idx - 1)
+        succ = np.where(last, np.where(ring, head, -1), idx + 1)
+        dup = (prev >= 0) & (prev != idx) & (xy == xy[prev]).all(axis=1)
+        if not dup.any():
+            dup = (prev >= 0) & (succ >= 0) & (xy[prev] == xy[succ]).all(axis=1)
+            if not dup.any():
+                break
+        xy, line_of = xy[~dup], line_of[~dup]
+    return xy, line_of, closed
 
 
 def _clip_lines(
