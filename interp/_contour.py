@@ -364,37 +364,40 @@ def _trace(
     (n + 1,) of each line's vertices, each line's index into ``levels`` and
     whether it is a closed ring (its first vertex repeated at its end).
     """
-    v = values[tris]
-    keep = np.isfinite(v).all(axis=1)
-    tris, v = tris[keep], v[keep]
+    # a node's bin is the number of levels at or below its value (-1 for NaN): a node is
+    # at or above level k when its bin exceeds k, and a cell or an edge spans the levels
+    # from its lowest bin up to (not including) its highest
+    bins = np.searchsorted(levels, values, side="right")
+    bins[~np.isfinite(values)] = -1
+    b0, b1, b2 = (bins[tris[:, k]] for k in range(3))
+    lo = np.minimum(np.minimum(b0, b1), b2)
+    hi = np.maximum(np.maximum(b0, b1), b2)
+    crossed = np.flatnonzero((lo >= 0) & (hi > lo))
+    tris, lo, hi = tris[crossed], lo[crossed], hi[crossed]
     n = len(points)
     pairs = tris[:, _SIDES]
     keys = pairs.min(axis=2) * n + pairs.max(axis=2)
     uniq, cell_edges = np.unique(keys, return_inverse=True)
     cell_edges = cell_edges.reshape(keys.shape)
     ea, eb = np.divmod(uniq, n)
-    # an edge crosses level L when lo < L <= hi: one end at or above L, the other below
-    va, vb = values[ea], values[eb]
-    first = np.searchsorted(levels, np.minimum(va, vb), side="right")
-    count = np.searchsorted(levels, np.maximum(va, vb), side="right") - first
+    first = np.minimum(bins[ea], bins[eb])
+    count = np.abs(bins[ea] - bins[eb])
     start = np.concatenate([[0], np.cumsum(count)])
     edge = np.repeat(np.arange(len(uniq)), count)
     level = first[edge] + np.arange(start[-1]) - start[edge]
-    top_a = va[edge] >= levels[level]
+    top_a = bins[ea[edge]] > level
     up = np.where(top_a, ea[edge], eb[edge])
     down = np.where(top_a, eb[edge], ea[edge])
+    # from the end at or above the level, so that a node at the level is hit exactly
     frac = (values[up] - levels[level]) / (values[up] - values[down])
     cross = points[up] + frac[:, None] * (points[down] - points[up])
 
     # one segment per cell and level it spans, between the crossings on the two edges
     # that meet at the corner on its own side of the level
-    lo, hi = v.min(axis=1), v.max(axis=1)
-    c_first = np.searchsorted(levels, lo, side="right")
-    c_count = np.searchsorted(levels, hi, side="right") - c_first
-    cell = np.repeat(np.arange(len(tris)), c_count)
-    c_start = np.concatenate([[0], np.cumsum(c_count)])
-    c_level = c_first[cell] + np.arange(c_start[-1]) - c_start[cell]
-    above = v[cell] >= levels[c_level][:, None]
+    cell = np.repeat(np.arange(len(tris)), hi - lo)
+    c_start = np.concatenate([[0], np.cumsum(hi - lo)])
+    c_level = lo[cell] + np.arange(c_start[-1]) - c_start[cell]
+    above = bins[tris[cell]] > c_level[:, None]
     odd_above = above.sum(axis=1) == 1
     odd = np.where(odd_above, above.argmax(axis=1), above.argmin(axis=1))
     e_next = cell_edges[cell, odd]
