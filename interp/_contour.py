@@ -46,6 +46,7 @@ from interp.io import atomic_path, write_table
 from interp.mesh import as_floats
 from interp.regions import Box, HalfSpace, Intersection, LevelSet, Polygon, Region
 from interp.view import _lattice
+from interp.volume import _check_surface
 
 #: default P2 tolerance, as a fraction of the range of the field's node values.
 TOLERANCE = 1e-4
@@ -172,7 +173,7 @@ def contour_levels(field: Field, interval: float) -> np.ndarray:
     >>> contour_levels(Field(mesh, [0.2, 1.75, 1.0]), 0.5).tolist()
     [0.5, 1.0, 1.5]
     """
-    _check_field(field)
+    _check_surface(field, "the contoured field")
     step = _positive(interval, "contour interval")
     vals = field.values[np.isfinite(field.values)]
     if vals.size == 0:
@@ -240,7 +241,7 @@ def contours(
     >>> half.closed.tolist(), [float(v[:, 0].min()) for v in half.lines]
     ([False], [0.0])
     """
-    _check_field(field)
+    _check_surface(field, "the contoured field")
     if (levels is None) == (interval is None):
         raise InterpError(
             "give the contour levels either as a list (levels=) or as an interval "
@@ -266,21 +267,6 @@ def contours(
         xy, offsets, line_level, closed = _clip_lines(xy, offsets, line_level, closed, region, mesh)
     lines = tuple(np.split(xy, offsets[1:-1])) if len(offsets) > 1 else ()
     return Contours(wanted[line_level], lines, closed, bound)
-
-
-def _check_field(field: object) -> None:
-    if not isinstance(field, Field):
-        raise InterpError(f"contours need an interp.Field, not {type(field).__name__}")
-    mesh = field.mesh
-    if mesh.dim != 2 or mesh.gdim != 2:
-        raise InterpError(
-            f"contours are drawn on 2D meshes (triangles in the plane); this field's mesh has "
-            f"{mesh.cell_type} cells in {mesh.gdim}D: take a 2D surface or a planar section"
-        )
-    if field.n_components != 1:
-        raise InterpError(
-            f"contours need a scalar field; this one has {field.n_components} components"
-        )
 
 
 def _positive(value: object, what: str) -> float:

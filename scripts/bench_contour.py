@@ -84,8 +84,9 @@ def run(small: bool) -> list[dict]:
             "interp_s": t_clip - t_ours,
             "reference_s": t_ref,
             "ratio": t_ref / max(t_clip - t_ours, 1e-9),
-            "length": float(sum(np.linalg.norm(np.diff(v, axis=0), axis=1).sum()
-                                for v in clipped.lines)),
+            "length": float(
+                sum(np.linalg.norm(np.diff(v, axis=0), axis=1).sum() for v in clipped.lines)
+            ),
             "reference_length": float(shapely.length(cut).sum()),
         }
     )

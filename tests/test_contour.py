@@ -327,7 +327,7 @@ def test_bad_input():
         contours(field, [0.5], interval=0.5)
     with pytest.raises(InterpError, match="finite"):
         contours(field, [np.nan])
-    with pytest.raises(InterpError, match="2D meshes"):
+    with pytest.raises(InterpError, match="2D triangle mesh"):
         contours(Field(cube_mesh(1), np.zeros(8)), [0.5])
     with pytest.raises(InterpError, match="scalar"):
         contours(Field(mesh, np.zeros((9, 2))), [0.5])
@@ -403,7 +403,7 @@ def test_cli_round_trip(survey, capsys):
         (["s.csv", "-o", "c.geojson"], "--interval STEP or --levels"),
         (["s.csv", "--interval", "0", "-o", "c.geojson"], "positive"),
         (["s.csv", "--interval", "-1", "-o", "c.geojson"], "positive"),
-        (["s3.csv", "--coords", "x,y,h", "--interval", "1", "-o", "c.geojson"], "2D meshes"),
+        (["s3.csv", "--coords", "x,y,h", "--interval", "1", "-o", "c.geojson"], "2D triangle mesh"),
         (["s.csv", "--interval", "1", "-o", "c.txt"], "unknown suffix"),
     ],
 )
