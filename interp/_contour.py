@@ -77,6 +77,8 @@ class Contours:
         Bound on the difference between the field and the surface contoured:
         0 for a P1 field (exact), the P2 subdivision's bound otherwise.
 
+    :func:`contours` returns read-only arrays.
+
     Examples
     --------
     >>> import numpy as np
@@ -266,7 +268,10 @@ def contours(
     if region is not None:
         xy, offsets, line_level, closed = _clip_lines(xy, offsets, line_level, closed, region, mesh)
     lines = tuple(np.split(xy, offsets[1:-1])) if len(offsets) > 1 else ()
-    return Contours(wanted[line_level], lines, closed, bound)
+    out = Contours(wanted[line_level], lines, closed, bound)
+    for a in (out.levels, out.closed, *out.lines):
+        a.flags.writeable = False
+    return out
 
 
 def _positive(value: object, what: str) -> float:

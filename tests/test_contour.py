@@ -19,6 +19,7 @@ from interp import (
     HalfSpace,
     InterpError,
     LevelSet,
+    Mesh,
     Polygon,
     contour_levels,
     contours,
@@ -105,6 +106,18 @@ def test_lines_of_a_plane_are_straight_at_known_places():
         assert -d[1] * 2 + d[0] * 3 > 0
 
 
+def test_cell_orientation_does_not_change_the_lines():
+    mesh = square_mesh(5)
+    cells = mesh.cells.copy()
+    cells[::2] = cells[::2, ::-1]  # every other cell clockwise
+    x, y = mesh.points.T
+    a = contours(Field(mesh, x * y + x), [0.3, 0.9])
+    b = contours(Field(Mesh(mesh.points, cells), x * y + x), [0.3, 0.9])
+    assert len(a) == len(b) == 2
+    for va, vb in zip(a.lines, b.lines, strict=True):
+        np.testing.assert_array_equal(va, vb)
+
+
 def test_cone_gives_closed_rings_inside_the_true_circles():
     g = np.linspace(-1.0, 1.0, 41)
     mesh = triangulate(np.stack(np.meshgrid(g, g), axis=-1).reshape(-1, 2))
@@ -120,8 +133,7 @@ def test_cone_gives_closed_rings_inside_the_true_circles():
         rv = np.hypot(*v.T)
         assert rv.max() <= level + 1e-12
         assert rv.min() >= level - 0.05**2 / level
-        # counter-clockwise: a cone rises outwards, so higher values on the left means
-        # the ring turns clockwise (positive signed area would be counter-clockwise)
+        # higher values on the left: the cone rises outwards, so the ring turns clockwise
         assert not shapely.is_ccw(shapely.LinearRing(v))
 
 
