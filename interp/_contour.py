@@ -258,6 +258,8 @@ def contours(
         wanted = np.unique(wanted)
     if region is not None:
         check_region(region, 2)
+    if tolerance is not None:
+        tolerance = _positive(tolerance, "contour tolerance")
     mesh = field.mesh
     values = field.values.reshape(-1)
     if mesh.order == 1:
@@ -302,11 +304,8 @@ def _split_p2(
         & (np.searchsorted(levels, lo, side="right") < np.searchsorted(levels, hi, side="right"))
     )
     finite = vals[np.isfinite(vals)]
-    if tolerance is None:
-        span = float(np.ptp(finite)) if finite.size else 0.0
-        tol = TOLERANCE * span if span > 0 else 1.0
-    else:
-        tol = _positive(tolerance, "contour tolerance")
+    span = float(np.ptp(finite)) if finite.size else 0.0
+    tol = tolerance or (TOLERANCE * span if span > 0 else 1.0)
     worst = float(np.abs(mid[hit] - 0.5 * (corner[hit] + corner[hit][:, [1, 2, 0]])).max(initial=0))
     s = max(1, math.ceil(math.sqrt(4.0 * worst / (3.0 * tol))))
     if s > MAX_SPLIT or len(hit) * s * s > MAX_SUBCELLS:

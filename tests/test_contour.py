@@ -343,8 +343,9 @@ def test_bad_input():
         contours(Field(cube_mesh(1), np.zeros(8)), [0.5])
     with pytest.raises(InterpError, match="scalar"):
         contours(Field(mesh, np.zeros((9, 2))), [0.5])
-    with pytest.raises(InterpError, match="positive"):
-        contours(Field(mesh.elevate(), np.zeros(25)), [0.5], tolerance=0.0)
+    for f in (field, Field(mesh.elevate(), np.zeros(25))):
+        with pytest.raises(InterpError, match="tolerance must be a positive"):
+            contours(f, [0.5], tolerance=0.0)
     with pytest.raises(InterpError, match="Polygon is planar|region is"):
         contours(field, [0.5], region=Box([0, 0, 0], [1, 1, 1]))
 
