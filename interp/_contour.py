@@ -229,6 +229,13 @@ def contours(
         ``levels`` and ``interval``, levels that are not finite numbers, a
         tolerance that is not positive or would need too many sub-triangles.
 
+    Notes
+    -----
+    The lines are exact for the interpolated surface, not for the ground or
+    the quantity between the data points: their accuracy there depends on
+    the density and method of the survey.  Check them against the applicable
+    survey standards and licensed practice before using them for design.
+
     Examples
     --------
     >>> import numpy as np
