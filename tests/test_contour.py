@@ -144,7 +144,8 @@ def test_paraboloid_ring_vertices_on_edges():
     assert len(c) == 1 and c.closed[0]
     # each vertex lies on a mesh edge, where the interpolant is the chord of the parabola:
     # at most h^2 / 4 above x^2 + y^2 along an axis-aligned edge of length h (h = 1/20), and
-    # h^2 / 2 along a diagonal (common practice: the chord error of t^2 is h^2 / 4)
+    # h^2 / 2 along a diagonal (analytic: the chord of t^2 over a step h is at most h^2 / 4
+    # above it)
     rv2 = np.sum((c.lines[0] - 0.5) ** 2, axis=1)
     assert np.all(rv2 <= 0.1 + 1e-12) and np.all(rv2 >= 0.1 - 0.05**2 / 2 - 1e-12)
 
