@@ -42,6 +42,7 @@ Examples
 [1.0]
 """
 
+from interp._contour import Contours, contour_levels, contours
 from interp._fit import fit
 from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp._overlay import Overlay, overlay
@@ -72,6 +73,7 @@ from interp.volume import Volumes, volume_between
 
 __all__ = [
     "Box",
+    "Contours",
     "Field",
     "Grid",
     "HalfSpace",
@@ -87,6 +89,8 @@ __all__ = [
     "Region",
     "RenderingUnavailable",
     "Volumes",
+    "contour_levels",
+    "contours",
     "crossvalidate",
     "fit",
     "integrate",

@@ -379,6 +379,30 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     emit(args, result, lines)
 
 
+def cmd_contour(args: argparse.Namespace) -> None:
+    if (args.interval is None) == (args.levels is None):
+        raise interp.InterpError("give the contour levels with --interval STEP or --levels A,B,C")
+    field = first_field(open_source(args))
+    stage(args, "tracing contours")
+    lines = interp.contours(
+        field,
+        args.levels,
+        interval=args.interval,
+        region=region_of(args.region),
+        tolerance=args.tolerance,
+    )
+    out = lines.save(args.output)
+    result = {"output": str(out), **lines.summary()}
+    levels = result["levels"]
+    span = f" from {levels[0]:.6g} to {levels[-1]:.6g}" if levels else ""
+    text = [
+        f"wrote {out}: {result['lines']:,} lines ({result['closed']:,} closed) at "
+        f"{len(levels)} levels{span}"
+    ]
+    if args.json or not args.quiet:
+        emit(args, result, text)
+
+
 def cmd_view(args: argparse.Namespace) -> None:
     fields = open_source(args)
     name = next(iter(fields))
@@ -410,6 +434,7 @@ EXAMPLES = {
     "integrate": "interp integrate data/yard_2026_03.csv --region data/yard_boundary.csv",
     "volume": "interp volume data/yard_2026_03.csv --level 100 --region data/yard_boundary.csv",
     "crossval": "interp crossval data/yard_2026_03.csv --json",
+    "contour": "interp contour data/yard_2026_03.csv --interval 0.5 -o contours.geojson",
     "view": "interp view data/yard_2026_03.csv --warp 2 --contours 10 --screenshot yard.png",
     "demo": "interp demo --out interp-demo",
 }
@@ -507,6 +532,22 @@ def build_parser() -> argparse.ArgumentParser:
     p = add("crossval", "leave-one-out residuals of a point file", cmd_crossval)
     p.add_argument("source", type=Path, help="point file")
     p.add_argument("--worst", type=int, default=5, help="how many worst points to list")
+    source_options(p)
+    json_flag(p)
+
+    p = add("contour", "contour lines of a 2D surface (.geojson or .csv)", cmd_contour)
+    p.add_argument("source", type=Path)
+    p.add_argument("--interval", type=float, help="a line at every multiple of this step")
+    p.add_argument("--levels", type=numbers, help="the levels a,b,c instead of --interval")
+    p.add_argument("--region", type=Path, help="POLYGON.csv or .geojson to clip the lines to")
+    p.add_argument(
+        "--tolerance",
+        type=float,
+        help="P2 (--order 2): largest difference between the surface and the one contoured",
+    )
+    p.add_argument(
+        "-o", "--output", type=Path, required=True, help="output .geojson (or .json) or .csv"
+    )
     source_options(p)
     json_flag(p)
 
