@@ -43,6 +43,7 @@ Examples
 """
 
 from interp._breaklines import read_lines
+from interp._contour import Contours, contour_levels, contours
 from interp._fit import fit
 from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp._overlay import Overlay, overlay
@@ -73,6 +74,7 @@ from interp.volume import Volumes, volume_between
 
 __all__ = [
     "Box",
+    "Contours",
     "Field",
     "Grid",
     "HalfSpace",
@@ -88,6 +90,8 @@ __all__ = [
     "Region",
     "RenderingUnavailable",
     "Volumes",
+    "contour_levels",
+    "contours",
     "crossvalidate",
     "fit",
     "integrate",

@@ -84,3 +84,27 @@ def shape_dbary(dim: int, order: int, bary: np.ndarray) -> np.ndarray:
     out[:, row, edges[:, 0]] = 4.0 * bary[:, edges[:, 1]]
     out[:, row, edges[:, 1]] = 4.0 * bary[:, edges[:, 0]]
     return out
+
+
+def lattice(s: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sub-nodes of a triangle split s times per edge: barycentric coordinates,
+    the s^2 sub-triangles and the loop of sub-nodes around the boundary.
+
+    Examples
+    --------
+    >>> bary, tris, loop = lattice(2)
+    >>> len(bary), tris.shape, loop.tolist()
+    (6, (4, 3), [0, 1, 2, 4, 5, 3, 0])
+    """
+    ij = [(i, j) for j in range(s + 1) for i in range(s + 1 - j)]
+    at = {p: k for k, p in enumerate(ij)}
+    up = [(at[i, j], at[i + 1, j], at[i, j + 1]) for i, j in ij if i + j < s]
+    down = [(at[i + 1, j], at[i + 1, j + 1], at[i, j + 1]) for i, j in ij if i + j < s - 1]
+    loop = (
+        [at[i, 0] for i in range(s + 1)]
+        + [at[s - j, j] for j in range(1, s + 1)]
+        + [at[0, j] for j in range(s - 1, -1, -1)]
+    )
+    k = np.array(ij, dtype=np.float64)
+    bary = np.column_stack([s - k.sum(axis=1), k[:, 0], k[:, 1]]) / s
+    return bary, np.array(up + down, dtype=np.int64), np.array(loop, dtype=np.int64)

@@ -8,9 +8,11 @@ outside the mesh.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -20,7 +22,10 @@ from interp._geometry import grid_nodes
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import CellIndex, Location
-from interp.io import read_zarr, save_grid
+from interp.io import grid_to_xarray, read_zarr, save_grid
+
+if TYPE_CHECKING:
+    import xarray
 
 #: the largest grid evaluated in memory; larger ones go through dask chunks.
 MAX_NODES = 500_000_000
@@ -40,6 +45,10 @@ class Grid:
         Arrays of shape ``shape`` (+ components), NaN outside the mesh.
     units : dict of str to str
         Units of the fields that have them.
+    crs : str, optional
+        Coordinate reference system of the axes (``"EPSG:nnnn"`` or WKT),
+        stored by the formats that hold one (``.tif``, ``.nc``); None when
+        unknown.
 
     Examples
     --------
@@ -52,6 +61,7 @@ class Grid:
     axes: tuple[np.ndarray, ...]
     fields: dict[str, np.ndarray]
     units: dict[str, str] = field(default_factory=dict)
+    crs: str | None = None
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -84,8 +94,12 @@ class Grid:
         ``.csv``: one row per node, coordinates then fields (empty cell for
         NaN); ``.vti``: VTK XML image data (an open format read by ParaView
         and pyvista); ``.zarr``: a Zarr store written chunk by chunk (for
-        dask-backed grids larger than memory; needs the ``dask`` extra).  The
-        file is written atomically.
+        dask-backed grids larger than memory; needs the ``dask`` extra);
+        ``.tif``/``.tiff``: a GeoTIFF of a 2D grid, one band per field
+        component, with ``crs`` (needs the ``geotiff`` extra; see
+        :func:`interp.io._geotiff.write_geotiff`); ``.nc``: NetCDF through
+        xarray, with ``crs`` (needs the ``xarray`` extra; see
+        :func:`interp.io._xarray.write_netcdf`).  The file is written atomically.
 
         Examples
         --------
@@ -97,6 +111,19 @@ class Grid:
         ['x', 'y', 'z']
         """
         return save_grid(self, path)
+
+    def to_xarray(self) -> xarray.Dataset:
+        """The grid as an ``xarray.Dataset`` with ``crs`` (needs the ``xarray`` extra).
+
+        See :func:`interp.io._xarray.grid_to_xarray`.
+
+        Examples
+        --------
+        >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.ones((3, 2))}, {"z": "m"})
+        >>> g.to_xarray()["z"].attrs["units"]
+        'm'
+        """
+        return grid_to_xarray(self)
 
 
 def open_zarr(path: str | Path) -> Grid:
@@ -122,8 +149,65 @@ def grid_axes(bounds: np.ndarray, spacing: np.ndarray) -> tuple[np.ndarray, ...]
     >>> [a.tolist() for a in grid_axes(np.array([[0.0, 0.0], [1.0, 0.5]]), np.array([0.5, 0.5]))]
     [[0.0, 0.5, 1.0], [0.0, 0.5]]
     """
-    n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9).astype(np.int64) + 1
+    n = grid_shape(bounds, spacing)
     return tuple(lo + s * np.arange(k) for lo, s, k in zip(bounds[0], spacing, n, strict=True))
+
+
+def grid_shape(bounds: np.ndarray, spacing: np.ndarray) -> tuple[int, ...]:
+    """Number of nodes along each axis, as Python integers (exact however large).
+
+    Examples
+    --------
+    >>> grid_shape(np.array([[0.0, 0.0], [1.0, 3.0]]), np.array([0.5, 1e-6]))
+    (3, 3000001)
+    """
+    with np.errstate(over="ignore"):
+        n = np.floor((bounds[1] - bounds[0]) / spacing * (1 + 1e-12) + 1e-9)
+    # beyond 1e18 nodes an axis is absurd anyway; the cap keeps products within float range
+    return tuple(int(k) + 1 for k in np.minimum(n, 1e18).tolist())
+
+
+def check_size(shape: tuple[int, ...], components: int, limit: int = MAX_NODES) -> None:
+    """Refuse, before allocating, a grid of more than ``limit`` nodes, saying what it would need.
+
+    Examples
+    --------
+    >>> check_size((1000, 1000), 1)
+    >>> check_size((10**6, 10**6), 1)  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    interp.errors.InterpError: a grid of 1,000,000 x 1,000,000 = ... nodes would need 7.3 TiB ...
+    """
+    total = math.prod(shape)
+    if total > limit:
+        raise InterpError(
+            f"a grid of {' x '.join(map(_many, shape))} = {_many(total)} nodes would need "
+            f"{size_text(8 * total * components)} of memory for {components} value"
+            f"{'s' * (components != 1)} per node: it does not fit in memory (at most "
+            f"{limit:,} nodes are evaluated at once); use a larger spacing or smaller bounds, or "
+            "evaluate it in chunks through dask (interp.to_grid(..., chunks=...))"
+        )
+
+
+def _many(k: int) -> str:
+    return f"{k:,}" if k < 10**15 else f"{k:.2e}"
+
+
+def size_text(nbytes: float) -> str:
+    """A byte count in binary units, such as ``'7.3 TiB'``.
+
+    Examples
+    --------
+    >>> size_text(512), size_text(3 * 2**30)
+    ('512 B', '3.0 GiB')
+    """
+    units = ["B", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"]
+    if nbytes >= 1024 ** len(units):
+        return f"{nbytes:.2e} B"
+    k = 0
+    while nbytes >= 1024 and k < len(units) - 1:
+        nbytes, k = nbytes / 1024, k + 1
+    return f"{nbytes:.0f} {units[k]}" if k == 0 else f"{nbytes:.1f} {units[k]}"
 
 
 def as_fields(fields: Field | Sequence[Field] | Mapping[str, Field]) -> dict[str, Field]:
@@ -277,17 +361,16 @@ def to_grid(
             np.max([m.bounds[1] for m in meshes], axis=0),
         ]
     )
-    axes = grid_axes(grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim))
+    b, s = grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim)
+    shape = grid_shape(b, s)
+    components = sum(int(np.prod(f.values.shape[1:])) for f in named.values())
+    # a lazy grid still holds its axes in memory: bound each axis alike
+    check_size(shape if chunks is None else (max(shape),), components)
+    axes = grid_axes(b, s)
     units = {n: f.units for n, f in named.items() if f.units}
     if chunks is not None:
         return Grid(axes, parallel.grid(named, axes, chunks), units)
-    shape = tuple(len(a) for a in axes)
-    total = int(np.prod(shape))
-    if total > MAX_NODES:
-        raise InterpError(
-            f"a grid of {total:,} nodes does not fit in memory; use a larger spacing or "
-            "evaluate it in chunks through dask (interp.to_grid(..., chunks=...))"
-        )
+    total = math.prod(shape)
     out = {
         name: np.empty((total,) + f.values.shape[1:], dtype=np.float64) for name, f in named.items()
     }

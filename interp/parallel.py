@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import os
+import socket
 import uuid
 import weakref
 from collections.abc import Callable, Iterator, Mapping
@@ -31,6 +32,9 @@ from interp.errors import InterpError
 if TYPE_CHECKING:
     import dask.array
     from dask.delayed import Delayed
+
+#: seconds allowed to reach a dask scheduler.
+CONNECT_TIMEOUT = 10
 
 # a stable graph key per shipped object, so that one object used twice in a
 # computation is still sent once
@@ -256,6 +260,19 @@ def grid(
     return dict(zip(named, result if len(named) > 1 else (result,), strict=True))
 
 
+def _probe(address: str) -> None:
+    """Open and close a TCP connection to a ``tcp://host:port`` scheduler, failing fast.
+
+    dask's client retries a refused or unresolvable address until its
+    timeout; this answers those at once (other protocols are left to dask).
+    """
+    from distributed.comm import parse_address, parse_host_port
+
+    protocol, location = parse_address(address)
+    if protocol == "tcp":
+        socket.create_connection(parse_host_port(location), timeout=CONNECT_TIMEOUT).close()
+
+
 def _evaluate_piece(points: np.ndarray, field: Any) -> np.ndarray:
     return field(points)
 
@@ -312,7 +329,10 @@ def evaluator(
             client = stack.enter_context(Client(cluster, set_as_default=False))
         else:
             try:
-                client = stack.enter_context(Client(scheduler, timeout=30, set_as_default=False))
+                _probe(scheduler)
+                client = stack.enter_context(
+                    Client(scheduler, timeout=CONNECT_TIMEOUT, set_as_default=False)
+                )
             except (OSError, ValueError) as exc:
                 raise InterpError(
                     f"cannot reach the dask scheduler at {scheduler!r} ({exc}); check the "

@@ -12,9 +12,12 @@ from interp._arrays import as_points
 from interp._geometry import polyline_lengths
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields, evaluate_fields
+from interp.grid import as_fields, evaluate_fields, size_text
 from interp.io import field_columns, write_table
 from interp.mesh import Mesh
+
+#: the most sample points a profile holds in memory.
+MAX_SAMPLES = 50_000_000
 
 
 @dataclass(frozen=True)
@@ -107,7 +110,16 @@ def profile(
         raise InterpError(
             f"the profile line repeats a vertex (segment {int(np.argmin(length))} has zero length)"
         )
-    count = np.ceil(length / step * (1 - 1e-12)).astype(np.int64)
+    with np.errstate(over="ignore"):
+        steps = np.ceil(length / step * (1 - 1e-12))
+    total = float(steps.sum()) + 1
+    if total > MAX_SAMPLES:
+        raise InterpError(
+            f"a profile of {total:,.0f} points every {step:g} along {start[-1]:g} would need "
+            f"{size_text(8 * total * (len(vertices[0]) + 4))} of memory (at most "
+            f"{MAX_SAMPLES:,} points); use a larger step"
+        )
+    count = steps.astype(np.int64)
     which = np.repeat(np.arange(len(seg)), count)
     local = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) * step
     distance = np.concatenate([start[which] + local, start[-1:]])

@@ -1,14 +1,14 @@
 """Sources: turning a file into fields, describing them, and sampling them file to file.
 
-A source is either a point file (delimited text with a header; its value
-columns are fitted on the fly with :func:`interp.fit`) or a mesh file that
-meshio reads (its point data are the fields).  These functions are what the
-command line calls; they are as usable from Python.
+A source is either a point file (delimited text with a header, or a LAS/LAZ
+point cloud; its value columns are fitted on the fly with :func:`interp.fit`)
+or a mesh file that meshio reads (its point data are the fields).  These
+functions are what the command line calls; they are as usable from Python.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from contextlib import ExitStack
 from dataclasses import dataclass
 from pathlib import Path
@@ -18,7 +18,16 @@ import numpy as np
 from interp._fit import fit
 from interp.errors import InterpError
 from interp.field import Field
-from interp.io import TableWriter, component_names, iter_point_chunks, point_reader, read
+from interp.io import (
+    TableWriter,
+    component_names,
+    field_columns,
+    is_las_file,
+    iter_las_chunks,
+    iter_point_chunks,
+    point_reader,
+    read,
+)
 
 
 def is_point_file(path: str | Path) -> bool:
@@ -42,6 +51,9 @@ def load(
     boundary: object | None = None,
     breaklines: list[object] | None = None,
     field: str | None = None,
+    classes: Sequence[int] | None = None,
+    every: int | None = None,
+    lowest_per_cell: float | None = None,
 ) -> dict[str, Field]:
     """Read a source file as named fields.
 
@@ -49,7 +61,9 @@ def load(
     ----------
     path : str or Path
         A point file (``.csv``, ``.txt``, ``.xyz``, ``.tsv``, ``.dat``,
-        ``.pts``) or a mesh file that meshio reads.
+        ``.pts``), a LAS/LAZ point cloud (``.las``, ``.laz``; ``z`` is its
+        value, extra dimensions further fields) or a mesh file that meshio
+        reads.
     coords : sequence of str
         Point files only: the coordinate columns; every other numeric column
         is a field.  The default ``("x", "y")`` makes ``z`` of a survey file
@@ -60,6 +74,10 @@ def load(
         as x, y only (each field's values along them come from its data).
     field : str, optional
         Keep only this field.
+    classes, every, lowest_per_cell
+        LAS/LAZ files only: classification codes to keep, every n-th point,
+        the lowest point per square cell of this size; see
+        :func:`interp.io._las.read_las`.
 
     Examples
     --------
@@ -70,9 +88,15 @@ def load(
     >>> float(f([[0.5, 0.0]])[0])
     1.5
     """
+    thinning = {"classes": classes, "every": every, "lowest_per_cell": lowest_per_cell}
+    thinning = {k: v for k, v in thinning.items() if v is not None}
+    if thinning and not is_las_file(path):
+        raise InterpError(
+            f"{path}: classes, every and lowest_per_cell apply to LAS/LAZ point clouds only"
+        )
     reader = point_reader(path)
     if reader is not None:
-        points, values = reader(path, coords=tuple(coords))
+        points, values = reader(path, coords=tuple(coords), **thinning)
         if not values:
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
@@ -81,10 +105,13 @@ def load(
         if breaklines is not None and len(chosen) > 1:
             breaklines = [np.asarray(line, dtype=float)[:, :2] for line in breaklines]
         options = {"order": order, "max_edge": max_edge, "boundary": boundary}
-        return {
-            name: fit(points, v, **options, breaklines=breaklines, name=name)
-            for name, v in chosen.items()
-        }
+        fields = {}
+        for name, v in chosen.items():
+            try:
+                fields[name] = fit(points, v, **options, breaklines=breaklines, name=name)
+            except InterpError as exc:
+                raise InterpError(f"{path}, column {name!r}: {exc}") from None
+        return fields
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
@@ -172,8 +199,11 @@ def sample_file(
 
     Each row of the query file is written unchanged, followed by one column
     per field (one per component for vector fields); points outside the mesh
-    get empty cells.  Memory stays bounded by ``chunk_rows`` however long the
-    file.  The output is written atomically.
+    get empty cells.  A LAS/LAZ query cloud (``.las``, ``.laz``) is streamed
+    the same way and written as comma-separated columns ``x, y`` (``z``) and
+    its fields (``z`` and extra dimensions), then the sampled fields.  Memory
+    stays bounded by ``chunk_rows`` however long the file.  The output is
+    written atomically.
 
     Parameters
     ----------
@@ -193,23 +223,45 @@ def sample_file(
     >>> (d / "o.csv").read_text().splitlines()
     ['id,x,y,z', 'A,0.25,0.25,3', 'B,5,5,']
     """
+    if Path(out).resolve() == Path(query).resolve():
+        raise InterpError(
+            f"the output {out} is the query file itself; writing it would destroy the query "
+            "file: give another output file"
+        )
     evaluate = evaluate or (lambda f, p: f(p))
     rows = outside = 0
     names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         writer = None
-        for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
+        for head, delimiter, text, points, lead in _query_blocks(query, coords, chunk_rows):
             if writer is None:
-                header = list(chunk.names) + names
-                writer = stack.enter_context(TableWriter(out, header, chunk.delimiter))
+                writer = stack.enter_context(TableWriter(out, head + names, delimiter))
             values = np.hstack(
-                [evaluate(f, chunk.points).reshape(len(chunk.points), -1) for f in fields.values()]
+                [evaluate(f, points).reshape(len(points), -1) for f in fields.values()]
             )
             outside += int(np.isnan(values).all(axis=1).sum())
-            writer.write(chunk.rows, values)
-            rows += len(chunk.points)
+            writer.write(text, values if lead is None else np.hstack([lead, values]))
+            rows += len(points)
             if progress:
                 progress(rows)
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
     return SampleReport(rows, outside, Path(out))
+
+
+def _query_blocks(
+    query: str | Path, coords: Sequence[str], chunk_rows: int
+) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None]]:
+    """Blocks of a query file: header, delimiter, raw rows, points, leading numbers.
+
+    A point file's rows are written back as they are (no leading numbers); a
+    LAS/LAZ cloud's points as comma-separated x, y(, z) and their fields.
+    """
+    if is_las_file(query):  # LAS/LAZ query clouds
+        for chunk in iter_las_chunks(query, coords=coords, chunk_points=chunk_rows):
+            columns = dict(zip(coords, chunk.points.T, strict=True)) | chunk.fields
+            head, lead = field_columns(columns, len(chunk.points))
+            yield head, ",", None, chunk.points, lead
+        return
+    for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
+        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None

@@ -113,10 +113,10 @@ def volume_between(
     >>> [round(x, 12) for x in (v.above, v.below, v.net, v.area)]
     [2.25, 0.25, 2.0, 4.0]
     """
-    _check_surface(upper, "upper")
+    check_surface(upper, "upper")
     level = None
     if isinstance(lower, Field):
-        _check_surface(lower, "lower")
+        check_surface(lower, "lower")
     else:
         try:
             level = float(lower)
@@ -145,7 +145,14 @@ def volume_between(
     return Volumes(above=above, below=below, net=above - below, area=area)
 
 
-def _check_surface(field: object, name: str) -> None:
+def check_surface(field: object, name: str) -> None:
+    """Raise unless ``field`` is a scalar surface z = f(x, y) on a 2D triangle mesh.
+
+    Examples
+    --------
+    >>> from interp import Field, Mesh
+    >>> check_surface(Field(Mesh([[0, 0], [1, 0], [0, 1]], [[0, 1, 2]]), [0, 1, 2]), "z")
+    """
     if not isinstance(field, Field):
         raise InterpError(f"{name} must be an interp.Field, not {type(field).__name__}")
     mesh = field.mesh

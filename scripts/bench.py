@@ -222,6 +222,13 @@ def bench_crossvalidate_section(small: bool) -> None:
     bench_crossvalidate(10_000 if small else 100_000)
 
 
+def bench_las_section(small: bool) -> None:
+    """Reading LAS/LAZ clouds, whole and thinned, against laspy's whole-file read."""
+    from bench_las import bench_las
+
+    bench_las(500_000 if small else 10_000_000)
+
+
 SECTIONS = {
     "locate": bench_locate,
     "grid": bench_grid,
@@ -229,6 +236,7 @@ SECTIONS = {
     "crossvalidate": bench_crossvalidate_section,
     "sample": bench_sample,
     "parallel": bench_parallel_section,
+    "las": bench_las_section,
 }
 
 

@@ -5,7 +5,12 @@
   :func:`iter_point_chunks`, :class:`TableWriter`, :func:`write_table`);
 - :mod:`interp.io._polygons`: polygon files (:func:`read_polygon`);
 - :mod:`interp.io._grids`: grid files by suffix (:data:`GRID_WRITERS`,
-  :data:`GRID_READERS`: ``.npz``, ``.csv``, ``.vti``, ``.zarr``);
+  :data:`GRID_READERS`: ``.npz``, ``.csv``, ``.vti``, ``.zarr``; ``.tif``/``.tiff``
+  from :mod:`interp.io._geotiff` and ``.nc`` from :mod:`interp.io._xarray`,
+  registered here);
+- :mod:`interp.io._las`: LAS/LAZ point clouds (:func:`read_las`,
+  :func:`iter_las_chunks`, :func:`las_crs`);
+- :mod:`interp.io._geojson`: GeoJSON polygons, read by :func:`read_polygon`;
 - :mod:`interp.io._atomic`: atomic writes (:func:`atomic_path`, :func:`move_into_place`).
 
 Point sources are looked up by suffix in :data:`POINT_READERS`: a new format
@@ -18,6 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from interp.io._atomic import atomic_path, move_into_place
+from interp.io._geotiff import write_geotiff
 from interp.io._grids import (
     GRID_READERS,
     GRID_WRITERS,
@@ -30,6 +36,14 @@ from interp.io._grids import (
     save_grid,
     save_zarr,
 )
+from interp.io._las import (
+    LAS_SUFFIXES,
+    is_las_file,
+    iter_las_chunks,
+    las_crs,
+    read_las,
+    read_las_points,
+)
 from interp.io._meshes import read, write
 from interp.io._polygons import read_polygon
 from interp.io._tables import (
@@ -40,11 +54,22 @@ from interp.io._tables import (
     read_table,
     write_table,
 )
+from interp.io._xarray import grid_to_xarray, write_netcdf
 
-#: readers of scattered-point files by suffix: ``reader(path, coords=...) -> (points, values)``.
-POINT_READERS: dict[str, Callable[..., tuple[np.ndarray, dict[str, np.ndarray]]]] = dict.fromkeys(
-    (".csv", ".txt", ".xyz", ".tsv", ".dat", ".pts"), read_points
+GRID_WRITERS.update(
+    {
+        ".tif": lambda grid, path: write_geotiff(path, grid),
+        ".tiff": lambda grid, path: write_geotiff(path, grid),
+        ".nc": lambda grid, path: write_netcdf(path, grid),
+    }
 )
+
+#: readers of scattered-point files by suffix: ``reader(path, coords=...) -> (points, values)``;
+#: the LAS/LAZ reader also takes ``classes``, ``every`` and ``lowest_per_cell``.
+POINT_READERS: dict[str, Callable[..., tuple[np.ndarray, dict[str, np.ndarray]]]] = {
+    **dict.fromkeys((".csv", ".txt", ".xyz", ".tsv", ".dat", ".pts"), read_points),
+    **dict.fromkeys(LAS_SUFFIXES, read_las_points),
+}
 
 
 def point_reader(
@@ -72,11 +97,17 @@ __all__ = [
     "atomic_path",
     "component_names",
     "field_columns",
+    "grid_to_xarray",
+    "is_las_file",
+    "iter_las_chunks",
     "iter_point_chunks",
+    "las_crs",
     "move_into_place",
     "point_reader",
     "read",
     "read_grid",
+    "read_las",
+    "read_las_points",
     "read_points",
     "read_polygon",
     "read_table",
@@ -84,5 +115,7 @@ __all__ = [
     "save_grid",
     "save_zarr",
     "write",
+    "write_geotiff",
+    "write_netcdf",
     "write_table",
 ]

@@ -14,7 +14,7 @@ import secrets
 import shutil
 import uuid
 from collections.abc import Iterator
-from contextlib import contextmanager
+from contextlib import contextmanager, suppress
 from pathlib import Path
 
 from interp.errors import InterpError
@@ -40,19 +40,26 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
     ('done', ['note.txt'])
     """
     path = Path(path)
-    tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
-    try:
-        os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
-    except OSError as exc:
+    if path.is_dir():
         raise InterpError(
-            f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
-            "check that it exists and is writable"
-        ) from None
+            f"cannot write {path}: it is a folder; give a file name, such as {path / 'out'}"
+            f"{path.suffix or '.csv'}"
+        )
+    tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
+    # one block from the file's creation on: Ctrl-C or SIGTERM the moment after it still cleans up
     try:
+        try:
+            os.close(os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666))
+        except OSError as exc:
+            raise InterpError(
+                f"cannot write {path}: {exc.strerror} in the folder {path.parent}; "
+                "check that it exists and is writable"
+            ) from None
         yield tmp
         os.replace(tmp, path)
     except BaseException:
-        tmp.unlink(missing_ok=True)
+        with suppress(OSError):
+            tmp.unlink()
         raise
 
 

@@ -16,6 +16,7 @@ import uuid
 from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any, Protocol
+from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
@@ -39,6 +40,7 @@ class GridLike(Protocol):
     axes: tuple[np.ndarray, ...]
     fields: dict[str, Any]
     units: dict[str, str]
+    crs: str | None
 
     @property
     def shape(self) -> tuple[int, ...]: ...
@@ -88,10 +90,27 @@ def save_grid(grid: GridLike, path: str | Path) -> Path:
     ['x,z', '0,1', '1,1']
     """
     path = Path(path)
-    writer = GRID_WRITERS.get(path.suffix.lower())
+    suffix = path.suffix.lower()
+    writer = GRID_WRITERS.get(suffix)
     if writer is None:
         raise InterpError(f"cannot save a grid as {path.name!r}: use {', '.join(GRID_WRITERS)}")
+    if suffix != ".csv":
+        _check_names(grid.fields, path)
     return writer(grid, path)
+
+
+def _check_names(fields: Mapping[str, object], path: Path) -> None:
+    """Refuse field names that are not text (undecodable bytes of a non-UTF-8 source file)."""
+    for name in fields:
+        try:
+            name.encode("utf-8")
+        except UnicodeEncodeError:
+            shown = name.encode("utf-8", "surrogateescape").decode("latin-1")
+            raise InterpError(
+                f"cannot write {path}: the field name {shown!r} is not UTF-8 text (the source "
+                "file's header is in another encoding, such as Latin-1); save the source file "
+                "as UTF-8, or write a .csv grid, which keeps the bytes as they are"
+            ) from None
 
 
 def read_grid(path: str | Path) -> GridParts:
@@ -155,7 +174,7 @@ def _write_vti(grid: GridLike, path: Path) -> None:
         data = np.ascontiguousarray(np.transpose(v, axes))
         raw = data.astype("<f8").tobytes()
         arrays.append(
-            f'<DataArray type="Float64" Name="{name}" NumberOfComponents="{comps}" '
+            f'<DataArray type="Float64" Name={quoteattr(name)} NumberOfComponents="{comps}" '
             f'format="appended" offset="{offset}"/>'
         )
         blocks.append(np.uint64(len(raw)).tobytes() + raw)

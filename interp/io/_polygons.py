@@ -7,6 +7,7 @@ import os
 import numpy as np
 
 from interp.errors import InterpError
+from interp.io._geojson import is_geojson_file, read_geojson_polygon
 from interp.io._tables import read_table
 from interp.polygon import as_ring
 
@@ -33,6 +34,8 @@ def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
     >>> [r.shape for r in read_polygon(path)]
     [(3, 2), (3, 2)]
     """
+    if is_geojson_file(path):  # GeoJSON polygons
+        return read_geojson_polygon(path)
     points, values, numbers, text_columns = read_table(path, ("x", "y"))
     key = next((n for n in [*values, *text_columns] if n.lower() == "ring"), None)
     if key is None:

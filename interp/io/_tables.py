@@ -20,6 +20,7 @@ import numpy as np
 
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path
+from interp.io._las import is_las_file, read_las_points
 
 #: delimiters of point files, as written; " " stands for any run of whitespace.
 DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab", " ": "whitespace"}
@@ -130,6 +131,13 @@ def iter_point_chunks(
                 break
         else:
             raise InterpError(f"{path}: the file is empty; expected a header row such as x,y,z")
+        binary = next((i for i, ch in enumerate(text) if ch < " " and ch not in "\t\r\n"), -1)
+        if binary >= 0:
+            raise InterpError(
+                f"{path}, line {line}, column {binary + 1}: control byte "
+                f"{ord(text[binary]):#04x} in the header; this is not a text point file "
+                "(binary data?): give delimited text with a header row such as x,y,z"
+            )
         layout = _layout(path, text.rstrip("\n"), coords)
         text_columns: dict[str, int] = {}
         while block := list(islice(file, int(chunk_rows))):
@@ -147,7 +155,9 @@ def read_points(
 
     The file format is that of :func:`iter_point_chunks`.  Text columns are
     skipped with a warning naming them.  A row with a missing or non-numeric
-    coordinate is an error naming its line.
+    coordinate is an error naming its line.  A ``.las`` or ``.laz`` point
+    cloud is read whole by :func:`interp.io._las.read_las` (coordinates
+    ``("x", "y")`` or ``("x", "y", "z")``; needs the ``las`` extra).
 
     Returns
     -------
@@ -164,6 +174,8 @@ def read_points(
     >>> points.tolist(), values["z"].tolist()
     ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
     """
+    if is_las_file(path):  # LAS/LAZ point clouds
+        return read_las_points(path, coords=coords)
     points, values, _, text_columns = read_table(path, coords)
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
@@ -361,6 +373,7 @@ def _coordinate(path: Path, name: str, cells: list[str], numbers: np.ndarray) ->
     if i < 0:
         return column
     cell = cells[i].strip()
+    cell = cell if len(cell) <= 40 else cell[:40] + "..."
     if not cell:
         problem = f"the {name} coordinate is missing"
     elif i == bad:

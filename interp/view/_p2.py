@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from interp.basis import EDGES, shape
+from interp.basis import EDGES, lattice, shape
 from interp.errors import InterpError
 from interp.mesh import Mesh
 
@@ -27,23 +27,6 @@ MAX_SUBCELLS = 4_000_000
 SCALARS = "values"
 #: corner triples of the four faces of a tetrahedron (face i is opposite corner i).
 TET_FACES = ((1, 2, 3), (0, 3, 2), (0, 1, 3), (0, 2, 1))
-
-
-def lattice(s: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Sub-nodes of a triangle split s times per edge: barycentric coordinates,
-    the s^2 sub-triangles and the loop of sub-nodes around the boundary."""
-    ij = [(i, j) for j in range(s + 1) for i in range(s + 1 - j)]
-    at = {p: k for k, p in enumerate(ij)}
-    up = [(at[i, j], at[i + 1, j], at[i, j + 1]) for i, j in ij if i + j < s]
-    down = [(at[i + 1, j], at[i + 1, j + 1], at[i, j + 1]) for i, j in ij if i + j < s - 1]
-    loop = (
-        [at[i, 0] for i in range(s + 1)]
-        + [at[s - j, j] for j in range(1, s + 1)]
-        + [at[0, j] for j in range(s - 1, -1, -1)]
-    )
-    k = np.array(ij, dtype=np.float64)
-    bary = np.column_stack([s - k.sum(axis=1), k[:, 0], k[:, 1]]) / s
-    return bary, np.array(up + down, dtype=np.int64), np.array(loop, dtype=np.int64)
 
 
 def subdivide(
