@@ -116,8 +116,8 @@ def samples(points: object, values: object, order: int) -> Samples:
     if np.isinf(vals).any():
         row = int(np.flatnonzero(np.isinf(vals).any(axis=1))[0])
         raise InterpError(
-            f"values are infinite at row {row}; use NaN to mark missing values (those "
-            "points are dropped)"
+            f"values are infinite at point index {row} (counted from 0); use NaN to mark "
+            "missing values (those points are dropped)"
         )
     valid = ~np.isnan(vals).any(axis=1)
     have, need = int(valid.sum()), pts.shape[1] + 1
@@ -164,6 +164,7 @@ def fit(
     max_edge: float | None = None,
     boundary: object | None = None,
     name: str | None = None,
+    units: str | None = None,
 ) -> Field:
     """A field through scattered data: P1 or P2 on the Delaunay triangulation of the points.
 
@@ -188,6 +189,8 @@ def fit(
         than ``max_edge``, or (2D) with the centroid outside the ``boundary``
         polygon (an :class:`interp.Polygon`, holes included, or one ring), are
         removed.
+    name, units
+        Name and units of the field (see :class:`interp.Field`).
 
     Returns
     -------
@@ -221,13 +224,14 @@ def fit(
     data = samples(points, values, order)
     mesh = triangulate(data.unique, max_edge=max_edge, boundary=boundary)
     if order == 1:
-        return Field(mesh, data.shaped(data.mean), name=name)
+        return Field(mesh, data.shaped(data.mean), name=name, units=units)
     ptr, idx = neighbours(mesh)
     grad = recover_gradients(mesh.points, data.mean, ptr, idx)
     edges = mesh.edges()[0]
     a, b = edges.T
     mids = midpoint(data.mean[a], data.mean[b], grad[a], grad[b], mesh.points[b] - mesh.points[a])
-    return Field(mesh.elevate(), data.shaped(np.vstack([data.mean, mids])), name=name)
+    values = data.shaped(np.vstack([data.mean, mids]))
+    return Field(mesh.elevate(), values, name=name, units=units)
 
 
 def neighbours(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:

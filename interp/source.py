@@ -8,6 +8,7 @@ command line calls; they are as usable from Python.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Sequence
 from contextlib import ExitStack
 from dataclasses import dataclass
@@ -41,6 +42,7 @@ def load(
     max_edge: float | None = None,
     boundary: object | None = None,
     field: str | None = None,
+    units: str | None = None,
 ) -> dict[str, Field]:
     """Read a source file as named fields.
 
@@ -57,6 +59,8 @@ def load(
         Point files only: passed to :func:`interp.fit`.
     field : str, optional
         Keep only this field.
+    units : str, optional
+        Units of the values given to every field (labels, grids, reports).
 
     Examples
     --------
@@ -76,13 +80,16 @@ def load(
             )
         chosen = choose_fields(values, field, path)
         return {
-            name: fit(points, v, order=order, max_edge=max_edge, boundary=boundary, name=name)
+            name: fit(
+                points, v, order=order, max_edge=max_edge, boundary=boundary, name=name, units=units
+            )
             for name, v in chosen.items()
         }
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
-    return {name: Field(mesh, v, name=name) for name, v in choose_fields(data, field, path).items()}
+    chosen = choose_fields(data, field, path)
+    return {name: Field(mesh, v, name=name, units=units) for name, v in chosen.items()}
 
 
 def choose_fields(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
@@ -145,11 +152,26 @@ def describe(fields: dict[str, Field]) -> dict:
 
 @dataclass(frozen=True)
 class SampleReport:
-    """What :func:`sample_file` did: rows read and rows outside the mesh."""
+    """What :func:`sample_file` did: rows read, rows outside the mesh, and check points.
+
+    ``columns`` maps each sampled field (component) to its column in the
+    output.  ``checks`` holds, for each sampled column that the query file
+    also has as a known value, ``count`` (rows with both), ``rms``, ``mean``
+    and ``max_abs`` of the residual known minus sampled (None without rows).
+    """
 
     rows: int
     outside: int
     path: Path
+    columns: dict[str, str] = dataclasses.field(default_factory=dict)
+    checks: dict[str, dict] = dataclasses.field(default_factory=dict)
+
+
+#: suffix of a sampled column whose name the query file already uses.
+SAMPLED = "_sampled"
+
+#: suffix of the residual column of a check point (known minus sampled).
+RESIDUAL = "_residual"
 
 
 def sample_file(
@@ -166,8 +188,13 @@ def sample_file(
 
     Each row of the query file is written unchanged, followed by one column
     per field (one per component for vector fields); points outside the mesh
-    get empty cells.  Memory stays bounded by ``chunk_rows`` however long the
-    file.  The output is written atomically.
+    get empty cells.  A sampled column whose name the query file already has
+    (compared ignoring case) is written as ``<name>_sampled``, so no two
+    columns share a name.  When that query column holds numbers it is taken
+    as a known value at a check point: a column ``<name>_residual``, known
+    minus sampled, follows, and the report gives the RMS of the residuals.
+    Memory stays bounded by ``chunk_rows`` however long the file.  The output
+    is written atomically.
 
     Parameters
     ----------
@@ -186,24 +213,85 @@ def sample_file(
     1
     >>> (d / "o.csv").read_text().splitlines()
     ['id,x,y,z', 'A,0.25,0.25,3', 'B,5,5,']
+    >>> _ = (d / "c.csv").write_text("x,y,z\\n0.25,0.25,3.5\\n0.5,0,1.5\\n")
+    >>> report = sample_file({"z": f}, d / "c.csv", d / "o.csv")
+    >>> (d / "o.csv").read_text().splitlines()
+    ['x,y,z,z_sampled,z_residual', '0.25,0.25,3.5,3,0.5', '0.5,0,1.5,2,-0.5']
+    >>> report.checks["z_sampled"]["rms"]
+    0.5
     """
     evaluate = evaluate or (lambda f, p: f(p))
     rows = outside = 0
-    names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
+    sampled = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         writer = None
         for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
             if writer is None:
-                header = list(chunk.names) + names
+                columns, known, residuals = _output_columns(chunk.names, chunk.values, sampled)
+                header = list(chunk.names) + [
+                    h for c in sampled for h in (columns[c], residuals.get(c)) if h
+                ]
                 writer = stack.enter_context(TableWriter(out, header, chunk.delimiter))
+                sums = {c: np.zeros(3) for c in known}
+                worst = dict.fromkeys(known, 0.0)
             values = np.hstack(
                 [evaluate(f, chunk.points).reshape(len(chunk.points), -1) for f in fields.values()]
             )
             outside += int(np.isnan(values).all(axis=1).sum())
-            writer.write(chunk.rows, values)
+            table = []
+            for j, c in enumerate(sampled):
+                table.append(values[:, j])
+                if c in known:
+                    r = chunk.values[known[c]] - values[:, j] if known[c] in chunk.values else None
+                    r = np.full(len(values), np.nan) if r is None else r
+                    table.append(r)
+                    ok = r[np.isfinite(r)]
+                    sums[c] += (ok.size, ok.sum(), (ok**2).sum())
+                    worst[c] = max(worst[c], float(np.abs(ok).max(initial=0.0)))
+            writer.write(chunk.rows, np.column_stack(table))
             rows += len(chunk.points)
             if progress:
                 progress(rows)
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
-    return SampleReport(rows, outside, Path(out))
+    checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
+    return SampleReport(rows, outside, Path(out), columns, checks)
+
+
+def _output_columns(names: list[str], numeric: dict, sampled: list[str]) -> tuple[dict, ...]:
+    """For each sampled column: its output name, the numeric query column it checks
+    against, and the name of its residual column; no name is used twice."""
+    query = {n.casefold(): n for n in names}
+    taken = set(query)
+    columns, known, residuals = {}, {}, {}
+    for c in sampled:
+        if c.casefold() not in query:
+            columns[c] = _free(c, "", taken)
+            continue
+        columns[c] = _free(c, SAMPLED, taken)
+        if query[c.casefold()] in numeric:
+            known[c] = query[c.casefold()]
+            residuals[c] = _free(c, RESIDUAL, taken)
+    return columns, known, residuals
+
+
+def _free(name: str, suffix: str, taken: set[str]) -> str:
+    """``name + suffix``, numbered when a column already has that name; marked as taken."""
+    out, k = name + suffix, 1
+    while out.casefold() in taken:
+        k += 1
+        out = f"{name}{suffix}{k}"
+    taken.add(out.casefold())
+    return out
+
+
+def _check_summary(sums: np.ndarray, worst: float) -> dict:
+    count, total, squares = int(sums[0]), float(sums[1]), float(sums[2])
+    if not count:
+        return {"count": 0, "rms": None, "mean": None, "max_abs": None}
+    return {
+        "count": count,
+        "rms": float(np.sqrt(squares / count)),
+        "mean": total / count,
+        "max_abs": worst,
+    }

@@ -147,7 +147,7 @@ def read_points(
 
     The file format is that of :func:`iter_point_chunks`.  Text columns are
     skipped with a warning naming them.  A row with a missing or non-numeric
-    coordinate is an error naming its line.
+    coordinate, or an infinite value, is an error naming its line.
 
     Returns
     -------
@@ -164,7 +164,14 @@ def read_points(
     >>> points.tolist(), values["z"].tolist()
     ([[10.0, 20.0], [11.0, 20.0]], [1.25, 1.5])
     """
-    points, values, _, text_columns = read_table(path, coords)
+    points, values, numbers, text_columns = read_table(path, coords)
+    for name, column in values.items():
+        bad = np.flatnonzero(np.isinf(column))
+        if bad.size:
+            raise InterpError(
+                f"{path}, line {numbers[bad[0]]}: the value in column {name!r} is infinite "
+                f"({bad.size} row(s) in all); leave the cell empty to mark no data"
+            )
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
         warnings.warn(
