@@ -79,3 +79,16 @@ def unit_power(units: str | None, power: int) -> str:
     if not units:
         return ""
     return units if power == 1 else units + SUPERSCRIPTS.get(power, f"^{power}")
+
+
+def table(rows: list[tuple[str, str, str]]) -> list[str]:
+    """Rows of (quantity, value, unit) as aligned lines: names left, values right.
+
+    Examples
+    --------
+    >>> table([("material above", "12.50", "m³"), ("area covered", "1000.00", "m²")])
+    ['  material above    12.50  m³', '  area covered    1000.00  m²']
+    """
+    name = max(len(r[0]) for r in rows)
+    value = max(len(r[1]) for r in rows)
+    return [f"  {a:<{name}}  {b:>{value}}  {c}".rstrip() for a, b, c in rows]

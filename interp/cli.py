@@ -18,7 +18,10 @@ from pathlib import Path
 import numpy as np
 
 import interp
+from interp._format import decimals, number, table, unit_power
 from interp.source import choose_fields, describe, load, sample_file
+
+SIGN = "difference = upper minus lower; above and below are positive amounts"
 
 CAUTION = (
     "Caution: computed volumes depend on survey density and method; check them against the "
@@ -103,6 +106,10 @@ def source_options(p: argparse.ArgumentParser) -> None:
         help="point files: POLYGON.csv; drop cells whose centroid is outside",
     )
     g.add_argument("--field", help="use only this field (default: all)")
+    g.add_argument(
+        "--units",
+        help="unit of the coordinates and values, such as m: labels reports, grids and fields",
+    )
 
 
 def boundary_polygon(args: argparse.Namespace) -> interp.Polygon | None:
@@ -123,6 +130,7 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         max_edge=args.max_edge,
         boundary=boundary,
         field=args.field,
+        units=args.units,
     )
 
 
@@ -140,30 +148,45 @@ def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:
         print("\n".join(text))
 
 
-def fmt(v: float | None) -> str:
-    return "-" if v is None else f"{v:.6g}"
+def places(field: interp.Field) -> int:
+    """Decimal places of a field's coordinates and values (the data's resolution)."""
+    return decimals(np.append(field.mesh.points, field.values))
 
 
 def cmd_info(args: argparse.Namespace) -> None:
-    info = describe(open_source(args))
+    fields = open_source(args)
+    info = describe(fields)
+    info["units"] = args.units
     q = info["quality"]
+    mesh = next(iter(fields.values())).mesh
+    k = decimals(mesh.points)
+    dim = info["dimension"]
     lines = [
-        f"{info['dimension']}D mesh of {info['cells']:,} {info['cell_type']} cells, "
-        f"{info['nodes']:,} nodes",
+        f"{dim}D mesh of {info['cells']:,} {info['cell_type']} cells, {info['nodes']:,} nodes",
         "bounds: "
-        + ", ".join(f"{lo:.6g}..{hi:.6g}" for lo, hi in zip(*info["bounds"], strict=True)),
-        f"{('length', 'area', 'volume')[info['dimension'] - 1]}: {info['measure']:.6g}",
+        + ", ".join(
+            f"{number(lo, k)}..{number(hi, k)}" for lo, hi in zip(*info["bounds"], strict=True)
+        )
+        + (f" {args.units}" if args.units else ""),
+        f"{('length', 'area', 'volume')[dim - 1]}: {number(info['measure'], k)} "
+        f"{unit_power(args.units, dim)}".rstrip(),
         f"cell quality (radius ratio, 1 = regular): min {q['radius_ratio_min']:.3g}, "
         f"median {q['radius_ratio_median']:.3g}",
     ]
     if "smallest_angle_deg" in q:
         lines.append(f"smallest angle: {q['smallest_angle_deg']:.3g} degrees")
     for name, f in info["fields"].items():
+        kv = decimals(fields[name].values)
         lines.append(
             f"field {name}: {f['components']} component(s), range "
-            f"{fmt(f['min'])}..{fmt(f['max'])}, {f['nan']} node(s) without data"
+            f"{number(f['min'], kv)}..{number(f['max'], kv)}{unit_suffix(args.units)}, "
+            f"{f['nan']} node(s) without data"
         )
     emit(args, info, lines)
+
+
+def unit_suffix(units: str | None, power: int = 1) -> str:
+    return f" {unit_power(units, power)}" if units else ""
 
 
 def cmd_grid(args: argparse.Namespace) -> None:
@@ -185,8 +208,30 @@ def cmd_sample(args: argparse.Namespace) -> None:
     progress = Progress("sampled", args.quiet)
     report = sample_file(fields, args.query, args.output, coords=args.coords, progress=progress)
     progress.close()
-    if not args.quiet:
+    renamed = {c: o for c, o in report.columns.items() if c != o}
+    if args.json:
+        result = {
+            "path": str(report.path),
+            "rows": report.rows,
+            "outside": report.outside,
+            "columns": report.columns,
+            "checks": report.checks,
+            "units": args.units,
+        }
+        print(json.dumps(result, indent=2))
+    elif not args.quiet:
         print(f"wrote {report.path}: {report.rows:,} rows, {report.outside:,} outside the mesh")
+        for c, o in renamed.items():
+            print(f"  the query file has its own column {c}: the sampled one is {o}")
+    for column, check in report.checks.items():
+        if not args.quiet:
+            k = decimals(next(iter(fields.values())).values)
+            print(
+                f"interp: check points against {column}: {check['count']:,} with a known "
+                f"value, RMS residual {number(check['rms'], k)}, mean {number(check['mean'], k)}, "
+                f"largest |residual| {number(check['max_abs'], k)}{unit_suffix(args.units)}",
+                file=sys.stderr,
+            )
 
 
 def cmd_profile(args: argparse.Namespace) -> None:
@@ -201,21 +246,35 @@ def cmd_profile(args: argparse.Namespace) -> None:
     )
     out = prof.save(args.output)
     if not args.quiet:
-        print(f"wrote {out}: {len(prof.distance):,} samples over {prof.distance[-1]:.6g}")
+        k = decimals(np.asarray(line))
+        print(
+            f"wrote {out}: {len(prof.distance):,} samples over "
+            f"{number(prof.distance[-1], k)}{unit_suffix(args.units)}"
+        )
 
 
 def cmd_integrate(args: argparse.Namespace) -> None:
     region = region_of(args.region)
-    result = {}
+    result, lines = {}, []
     for name, f in open_source(args).items():
-        result[name] = interp.summarize(f, region=region)
-    lines = []
-    for name, r in result.items():
-        lines.append(
-            f"{name}: integral {fmt(r['integral'])}, measure {fmt(r['measure'])}, "
-            f"mean {fmt(r['mean'])}"
+        r = interp.summarize(f, region=region)
+        result[name] = {**r, "units": args.units}
+        k, d = places(f), f.mesh.dim
+        lines.append(f"{name} over {args.region or 'the whole mesh'}:")
+        lines += table(
+            [
+                ("integral", numbers_text(r["integral"], k), unit_power(args.units, d + 1)),
+                ("measure covered", number(r["measure"], k), unit_power(args.units, d)),
+                ("mean", numbers_text(r["mean"], k), unit_power(args.units, 1)),
+                ("region not covered", number(r["uncovered"], k), unit_power(args.units, d)),
+            ]
         )
     emit(args, result, lines)
+
+
+def numbers_text(v: float | list | None, k: int) -> str:
+    """A result of one or several components as text."""
+    return ", ".join(number(c, k) for c in v) if isinstance(v, list) else number(v, k)
 
 
 def cmd_volume(args: argparse.Namespace) -> None:
@@ -224,24 +283,44 @@ def cmd_volume(args: argparse.Namespace) -> None:
     upper = first_field(open_source(args, args.upper))
     lower = args.level if args.level is not None else first_field(open_source(args, args.lower))
     vol = interp.volume_between(upper, lower, region=region_of(args.region))
+    inputs = {
+        "upper": str(args.upper),
+        "lower": str(args.lower)
+        if args.lower is not None
+        else f"level {number(args.level, decimals([args.level]))}",
+        "region": str(args.region) if args.region else None,
+    }
     result = {
         "above": vol.above,
         "below": vol.below,
         "net": vol.net,
         "area": vol.area,
+        "uncovered": vol.uncovered,
+        "sign": SIGN,
+        "units": args.units,
+        "inputs": inputs,
         "caution": CAUTION,
     }
-    emit(
-        args,
-        result,
-        [
-            f"above (fill over the lower surface / cut): {vol.above:.6g}",
-            f"below: {vol.below:.6g}",
-            f"net (above - below): {vol.net:.6g}",
-            f"plan area: {vol.area:.6g}",
-            CAUTION,
-        ],
-    )
+    k, u = places(upper), args.units
+    lines = [
+        f"Volume between two surfaces ({SIGN})",
+        f"  upper surface:  {inputs['upper']}",
+        f"  lower surface:  {inputs['lower']}",
+        f"  region:         {inputs['region'] or 'where either surface has data'}",
+        "",
+        *table(
+            [
+                ("material above (upper over lower)", number(vol.above, k), unit_power(u, 3)),
+                ("material below (upper under lower)", number(vol.below, k), unit_power(u, 3)),
+                ("difference (above - below)", number(vol.net, k), unit_power(u, 3)),
+                ("area covered", number(vol.area, k), unit_power(u, 2)),
+                ("area of the region not covered", number(vol.uncovered, k), unit_power(u, 2)),
+            ]
+        ),
+        "",
+        CAUTION,
+    ]
+    emit(args, result, lines)
 
 
 def first_field(fields: dict[str, interp.Field]) -> interp.Field:
@@ -257,25 +336,32 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
-    result, lines = {}, []
+    result, lines, residuals = {}, [], {}
     boundary = boundary_polygon(args)
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
-        stats = interp.residual_summary(
-            points,
-            interp.crossvalidate(
-                points, v, order=args.order, max_edge=args.max_edge, boundary=boundary
-            ),
-            worst=args.worst,
+        residuals[name] = interp.crossvalidate(
+            points, v, order=args.order, max_edge=args.max_edge, boundary=boundary
         )
-        result[name] = stats
-        lines.append(
-            f"{name}: {stats['count']:,} points, RMS {fmt(stats['rms'])}, "
-            f"mean {fmt(stats['mean'])}, max |r| {fmt(stats['max_abs'])}, "
-            f"{stats['outside']:,} outside the hull of the others"
+        stats = interp.residual_summary(points, residuals[name], worst=0)
+        del stats["worst"]
+        result[name] = {**stats, "units": args.units}
+        k = decimals(v)
+        lines.append(f"{name}: each point predicted from all the others (P{args.order} fit)")
+        lines += table(
+            [
+                ("points predicted", f"{stats['count']:,}", ""),
+                ("points not predicted (no cell)", f"{stats['outside']:,}", ""),
+                ("RMS residual", number(stats["rms"], k), args.units or ""),
+                ("mean residual (bias)", number(stats["mean"], k), args.units or ""),
+                ("largest |residual|", number(stats["max_abs"], k), args.units or ""),
+            ]
         )
-        for w in stats["worst"]:
-            lines.append(f"  row {w['row']}: at {w['point']}, residual {w['residual']:.6g}")
+    if args.output:
+        out = interp.write_residuals(args.output, points, values, residuals, args.coords)
+        lines.append(f"residual = measured - predicted, per point in {out}")
+        for stats in result.values():
+            stats["residuals"] = str(out)
     emit(args, result, lines)
 
 
@@ -369,6 +455,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p.add_argument("--scheduler", help="address of a running dask.distributed scheduler")
     source_options(p)
+    json_flag(p)
 
     p = add("profile", "sample along a section line", cmd_profile)
     p.add_argument("source", type=Path)
@@ -393,7 +480,12 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("crossval", "leave-one-out residuals of a point file", cmd_crossval)
     p.add_argument("source", type=Path, help="point file")
-    p.add_argument("--worst", type=int, default=5, help="how many worst points to list")
+    p.add_argument(
+        "-o",
+        "--output",
+        type=Path,
+        help="CSV of every point: coordinates, value, predicted, residual",
+    )
     source_options(p)
     json_flag(p)
 
