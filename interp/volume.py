@@ -48,8 +48,7 @@ class Volumes:
     above : float
         Volume where upper > lower: what fills the space over the lower
         surface.  With the existing ground as upper and a design level as
-        lower, it is the cut (material to remove), which the command line
-        prints as "above (fill over the lower surface / cut)".
+        lower, it is the cut (material to remove).
     below : float
         Volume where upper < lower, as a positive number (with the ground as
         upper: the fill, material to bring).
