@@ -302,11 +302,14 @@ def cmd_volume(args: argparse.Namespace) -> None:
         "caution": CAUTION,
     }
     k, u = places(upper), args.units
+    extent = "where the upper surface has data"
+    if args.lower is not None:
+        extent = "where either surface has data"
     lines = [
         f"Volume between two surfaces ({SIGN})",
         f"  upper surface:  {inputs['upper']}",
         f"  lower surface:  {inputs['lower']}",
-        f"  region:         {inputs['region'] or 'where either surface has data'}",
+        f"  region:         {inputs['region'] or extent}",
         "",
         *table(
             [
@@ -351,7 +354,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
         lines += table(
             [
                 ("points predicted", f"{stats['count']:,}", ""),
-                ("points not predicted (no cell)", f"{stats['outside']:,}", ""),
+                ("not predicted (outside the others or masked)", f"{stats['outside']:,}", ""),
                 ("RMS residual", number(stats["rms"], k), args.units or ""),
                 ("mean residual (bias)", number(stats["mean"], k), args.units or ""),
                 ("largest |residual|", number(stats["max_abs"], k), args.units or ""),
@@ -395,7 +398,7 @@ EXAMPLES = {
     "profile": "interp profile data/yard_2026_03.csv --line 0,20,80,20 --step 0.5 -o section.csv",
     "integrate": "interp integrate data/yard_2026_03.csv --region data/yard_boundary.csv",
     "volume": "interp volume data/yard_2026_03.csv --level 100 --region data/yard_boundary.csv",
-    "crossval": "interp crossval data/yard_2026_03.csv --json",
+    "crossval": "interp crossval data/yard_2026_03.csv -o residuals.csv",
     "view": "interp view data/yard_2026_03.csv --warp 2 --contours 10 --screenshot yard.png",
     "demo": "interp demo --out interp-demo",
 }
