@@ -49,7 +49,7 @@ from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l
 from interp._overlay import Overlay, overlay
 from interp._quadrature import quadrature
 from interp._triangulate import triangulate
-from interp._validate import crossvalidate, residual_summary
+from interp._validate import crossvalidate, residual_summary, write_residuals
 from interp.clip import Pieces
 from interp.errors import InterpError, RenderingUnavailable
 from interp.field import Field
@@ -124,5 +124,6 @@ __all__ = [
     "triangulate",
     "volume_between",
     "write",
+    "write_residuals",
 ]
 __version__ = "0.1.0"

@@ -126,8 +126,8 @@ def samples(points: object, values: object, order: int) -> Samples:
     if np.isinf(vals).any():
         row = int(np.flatnonzero(np.isinf(vals).any(axis=1))[0])
         raise InterpError(
-            f"values are infinite at row {row}; use NaN to mark missing values (those "
-            "points are dropped)"
+            f"values are infinite at point index {row} (counted from 0); use NaN to mark "
+            "missing values (those points are dropped)"
         )
     valid = ~np.isnan(vals).any(axis=1)
     have, need = int(valid.sum()), pts.shape[1] + 1
@@ -175,6 +175,7 @@ def fit(
     boundary: object | None = None,
     breaklines: list[object] | None = None,
     name: str | None = None,
+    units: str | None = None,
 ) -> Field:
     """A field through scattered data: P1 or P2 on the Delaunay triangulation of the points.
 
@@ -205,6 +206,8 @@ def fit(
         points are nodes too, valued along their line (see
         :mod:`interp._breaklines`); a line without values takes them from the
         surface of the data points.
+    name, units
+        Name and units of the field (see :class:`interp.Field`).
 
     Returns
     -------
@@ -239,13 +242,14 @@ def fit(
     mesh, added = mesh_and_added(data.unique, max_edge, boundary, breaklines)
     mean = _node_values(data, mesh, added)
     if order == 1:
-        return Field(mesh, data.shaped(mean), name=name)
+        return Field(mesh, data.shaped(mean), name=name, units=units)
     ptr, idx = neighbours(mesh)
     grad = recover_gradients(mesh.points, mean, ptr, idx)
     edges = mesh.edges()[0]
     a, b = edges.T
     mids = midpoint(mean[a], mean[b], grad[a], grad[b], mesh.points[b] - mesh.points[a])
-    return Field(mesh.elevate(), data.shaped(np.vstack([mean, mids])), name=name)
+    values = data.shaped(np.vstack([mean, mids]))
+    return Field(mesh.elevate(), values, name=name, units=units)
 
 
 def _node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:

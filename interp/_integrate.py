@@ -23,10 +23,13 @@ follow local codes and licensed practice.
 
 from __future__ import annotations
 
+import itertools
+import warnings
 from collections.abc import Callable
 
 import numpy as np
 
+from interp._format import number
 from interp._geometry import barycentric, simplex_geometry
 from interp._quadrature import CELLS, quadrature
 from interp.basis import n_basis
@@ -34,10 +37,13 @@ from interp.clip import Pieces, clip, evaluate_at
 from interp.errors import InterpError
 from interp.field import Field
 from interp.mesh import Mesh
-from interp.regions import Region
+from interp.regions import Intersection, LevelSet, Region
 
 #: array entries (points x basis functions) handled per block of pieces.
 BLOCK = 1 << 20
+
+#: share of a region left uncovered by the mesh above which a result warns (0.1%).
+UNCOVERED_SHARE = 1e-3
 
 Integrand = Field | Callable[[np.ndarray], object]
 
@@ -88,7 +94,9 @@ def integrate(
     1.333333333333
     """
     mesh, degree = _domain(f, mesh, degree)
-    return _result(_integrate(f, mesh, *_pieces(mesh, region), degree))
+    parent, corners = _pieces(mesh, region)
+    _missing(region, corners, "the integral")
+    return _result(_integrate(f, mesh, parent, corners, degree))
 
 
 def integrate_pieces(f: Integrand, mesh: Mesh, pieces: Pieces, degree: int) -> float | np.ndarray:
@@ -158,13 +166,14 @@ def mean(field: Field, region: Region | None = None) -> float | np.ndarray:
     """
     _check_field(field)
     parent, corners = _pieces(field.mesh, region)
-    size = simplex_geometry(corners)[0].sum()
+    size = float(simplex_geometry(corners)[0].sum())
     if size == 0.0:
         raise InterpError(
             "the region does not overlap the mesh, so the field has no mean there; "
             "check the region's coordinates against the mesh bounds "
             f"{field.mesh.bounds.tolist()}"
         )
+    uncovered(region_measure(region), size, "the mean")
     return _result(_integrate(field, field.mesh, parent, corners, field.mesh.order) / size)
 
 
@@ -172,13 +181,21 @@ def summarize(field: Field, region: Region | None = None) -> dict:
     """Integral, measure and mean of a field over its mesh or a region, clipping once.
 
     Values are floats, or lists per component; ``mean`` is None where the
-    region does not overlap the mesh (measure 0).
+    region does not overlap the mesh (measure 0).  ``uncovered`` is the
+    measure of the part of the region outside the mesh (see
+    :func:`uncovered`): the integral and the measure leave it out, and a
+    warning says so when it is over 0.1% of the region.
 
     Examples
     --------
-    >>> from interp import Field, Mesh
-    >>> summarize(Field(Mesh([0.0, 2.0], [[0, 1]]), [1.0, 3.0]))
-    {'integral': 4.0, 'measure': 2.0, 'mean': 2.0}
+    >>> from interp import Box, Field, Mesh
+    >>> f = Field(Mesh([0.0, 2.0], [[0, 1]]), [1.0, 3.0])
+    >>> summarize(f)
+    {'integral': 4.0, 'measure': 2.0, 'mean': 2.0, 'uncovered': 0.0}
+    >>> import warnings
+    >>> with warnings.catch_warnings(record=True):
+    ...     summarize(f, region=Box([1.0], [4.0]))["uncovered"]
+    2.0
     """
     _check_field(field)
     parent, corners = _pieces(field.mesh, region)
@@ -188,7 +205,69 @@ def summarize(field: Field, region: Region | None = None) -> dict:
         "integral": total.tolist(),
         "measure": size,
         "mean": (total / size).tolist() if size > 0 else None,
+        "uncovered": uncovered(region_measure(region), size, "the integral"),
     }
+
+
+def region_measure(region: Region | None) -> float | None:
+    """Length, area or volume of a region by itself; None for no region or an unbounded one.
+
+    A :class:`~interp.Polygon` or :class:`~interp.Box` knows its own measure;
+    an :class:`~interp.Intersection` is measured by clipping a box over its
+    bounds (or, holding a :class:`~interp.LevelSet`, that field's mesh).
+
+    Examples
+    --------
+    >>> from interp import Box, HalfSpace, Polygon
+    >>> region_measure(Polygon([[0, 0], [4, 0], [0, 4]]) & HalfSpace([1, 0], 2.0))
+    6.0
+    >>> region_measure(HalfSpace([1, 0], 2.0)) is None
+    True
+    """
+    if region is None:
+        return None
+    parts = region.regions if isinstance(region, Intersection) else (region,)
+    if len(parts) == 1 and not isinstance(parts[0], LevelSet):
+        size = parts[0].measure
+        return size if np.isfinite(size) else None
+    level = next((r for r in parts if isinstance(r, LevelSet)), None)
+    if level is not None:
+        return measure(level.field.mesh, region)
+    bounds = region.bounds
+    return None if bounds is None else measure(_box_mesh(bounds), region)
+
+
+def uncovered(size: float | None, covered: float, what: str) -> float:
+    """Measure of the part of a region of measure ``size`` that ``covered`` misses.
+
+    ``covered`` is the measure of the region's part that a result used.  Zero
+    when ``size`` is None (no region: the mesh is the region; an unbounded
+    one: it is taken within the mesh).  Warns, naming ``what`` the result
+    is, when the part is over :data:`UNCOVERED_SHARE` of the region.
+
+    Examples
+    --------
+    >>> import warnings
+    >>> uncovered(4.0, 4.0, "the volume")
+    0.0
+    >>> with warnings.catch_warnings(record=True) as caught:
+    ...     warnings.simplefilter("always")
+    ...     uncovered(220400.0, 110200.0, "the volume")
+    110200.0
+    >>> str(caught[0].message).split(":")[0]
+    "the volume leaves out 110200 of the region's 220400 (50%)"
+    """
+    if size is None:
+        return 0.0
+    missing = max(size - covered, 0.0)
+    if missing > UNCOVERED_SHARE * size:
+        warnings.warn(
+            f"{what} leaves out {number(missing)} of the region's {number(size)} "
+            f"({100 * missing / size:.3g}%): that part is not covered by the data; "
+            "extend the survey or shrink the region",
+            stacklevel=3,
+        )
+    return missing
 
 
 def norm_l2(field: Field, region: Region | None = None) -> float | np.ndarray:
@@ -204,8 +283,10 @@ def norm_l2(field: Field, region: Region | None = None) -> float | np.ndarray:
     3.0
     """
     _check_field(field)
-    pieces = _pieces(field.mesh, region)
-    return _result(np.sqrt(_integrate(field, field.mesh, *pieces, 2 * field.mesh.order, 2)))
+    parent, corners = _pieces(field.mesh, region)
+    _missing(region, corners, "the L2 norm")
+    order = 2 * field.mesh.order
+    return _result(np.sqrt(_integrate(field, field.mesh, parent, corners, order, 2)))
 
 
 def _check_field(field: object) -> None:
@@ -237,6 +318,23 @@ def _pieces(mesh: Mesh, region: Region | None) -> tuple[np.ndarray, np.ndarray]:
         return np.arange(mesh.n_cells), mesh.points[mesh.corners]
     pieces = clip(mesh, region)
     return pieces.parent, pieces.corners
+
+
+def _missing(region: Region | None, corners: np.ndarray, what: str) -> float:
+    """:func:`uncovered` for the pieces ``corners`` of mesh ∩ region."""
+    return uncovered(region_measure(region), float(simplex_geometry(corners)[0].sum()), what)
+
+
+def _box_mesh(bounds: np.ndarray) -> Mesh:
+    """The box ``bounds`` (2, g) cut into g! simplices (Kuhn's triangulation of a cube)."""
+    g = bounds.shape[1]
+    corners = np.array(list(itertools.product((0, 1), repeat=g)))[:, ::-1]
+    weights = 1 << np.arange(g)
+    cells = []
+    for axes in itertools.permutations(range(g)):
+        steps = np.cumsum(np.eye(g, dtype=np.int64)[list(axes)], axis=0)
+        cells.append([0, *(steps @ weights)])
+    return Mesh(bounds[0] + corners * (bounds[1] - bounds[0]), cells)
 
 
 def _check_pieces(mesh: Mesh, pieces: object) -> tuple[np.ndarray, np.ndarray]:

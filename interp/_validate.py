@@ -39,6 +39,9 @@ a brute-force leave-one-out is just as ambiguous there.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+from pathlib import Path
+
 import numpy as np
 
 from interp._arrays import as_points, positive
@@ -48,6 +51,7 @@ from interp._kernels.validate import leave_one_out
 from interp._triangulate import inside_boundary, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
+from interp.io import write_table
 from interp.mesh import Mesh
 
 
@@ -209,6 +213,42 @@ def residual_summary(points: object, residuals: object, *, worst: int = 5) -> di
             {"row": int(i), "point": pts[i].tolist(), "residual": float(res[i])} for i in rows
         ],
     }
+
+
+def write_residuals(
+    path: str | Path,
+    points: object,
+    values: dict[str, np.ndarray],
+    residuals: dict[str, np.ndarray],
+    coords: Sequence[str] = ("x", "y"),
+) -> Path:
+    """Write one row per point: coordinates, measured value, prediction and residual.
+
+    With one field the columns after the coordinates are ``value``,
+    ``predicted`` and ``residual``; with several, ``<name>``,
+    ``<name>_predicted`` and ``<name>_residual`` for each.  The prediction is
+    the value minus the residual; cells without a residual are empty.  The
+    file is written atomically.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "r.csv"
+    >>> _ = write_residuals(path, [[0.0, 1.0], [2.0, 3.0]], {"z": np.array([5.0, 6.0])},
+    ...                     {"z": np.array([0.5, np.nan])})
+    >>> path.read_text().splitlines()
+    ['x,y,value,predicted,residual', '0,1,5,4.5,0.5', '2,3,6,,']
+    """
+    pts = as_points(points)
+    header, columns = list(coords), list(pts.T)
+    for name, r in residuals.items():
+        v = np.asarray(values[name], dtype=np.float64)
+        labels = ("value", "predicted", "residual")
+        if len(residuals) > 1:
+            labels = (name, f"{name}_predicted", f"{name}_residual")
+        header += labels
+        columns += [v, v - r, r]
+    return write_table(path, header, columns)
 
 
 def _vertex_cells(cells: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:

@@ -10,21 +10,36 @@ from __future__ import annotations
 import argparse
 import json
 import sys
-import time
 import warnings
 from collections.abc import Sequence
 from contextlib import ExitStack
 from dataclasses import replace
 from pathlib import Path
-from typing import NoReturn
 
 import numpy as np
 
 import interp
 from interp._breaklines import segment_lengths
+from interp._cli_args import (
+    Parser,
+    Progress,
+    count,
+    emit,
+    las_options,
+    numbers,
+    open_source,
+    places,
+    positive,
+    region_of,
+    source_options,
+    stage,
+)
 from interp._cli_run import run
+from interp._format import decimals, number, table, unit_power
 from interp.io import is_las_file, las_crs, read_las_points
-from interp.source import choose_fields, describe, load, sample_file
+from interp.source import choose_fields, describe, sample_file
+
+SIGN = "difference = upper minus lower; above and below are positive amounts"
 
 CAUTION = (
     "Caution: computed volumes depend on survey density and method; check them against the "
@@ -33,196 +48,23 @@ CAUTION = (
 )
 
 
-class Parser(argparse.ArgumentParser):
-    """An argument parser whose usage errors are one line ``interp: error: ...``, exit 2."""
-
-    def error(self, message: str) -> NoReturn:
-        where = self.prog.removeprefix("interp").strip()
-        self.exit(
-            2,
-            f"interp: error: {where + ': ' if where else ''}{message} (see '{self.prog} --help')\n",
-        )
-
-
-class Progress:
-    """A progress line on stderr, shown only on a terminal and not with --quiet."""
-
-    def __init__(self, label: str, quiet: bool, total: int | None = None) -> None:
-        self.label, self.total = label, total
-        self.enabled = not quiet and sys.stderr.isatty()
-        self.start = time.perf_counter()
-
-    def __call__(self, done: int) -> None:
-        if not self.enabled:
-            return
-        rate = done / max(time.perf_counter() - self.start, 1e-9)
-        share = f" ({100 * done / self.total:5.1f}%)" if self.total else ""
-        sys.stderr.write(f"\r{self.label}: {done:,}{share}, {rate:,.0f}/s")
-        sys.stderr.flush()
-
-    def close(self) -> None:
-        if self.enabled:
-            sys.stderr.write("\n")
-
-
-def stage(args: argparse.Namespace, text: str) -> None:
-    """Say on stderr what a long step is doing (a terminal only, not with --quiet)."""
-    if not args.quiet and sys.stderr.isatty():
-        sys.stderr.write(f"interp: {text}...\n")
-        sys.stderr.flush()
-
-
-def numbers(text: str) -> list[float]:
-    """Parse a comma-separated list of numbers (an argparse type)."""
-    try:
-        return [float(v) for v in text.split(",")]
-    except ValueError:
-        raise argparse.ArgumentTypeError(
-            f"expected comma-separated numbers, got {text!r}"
-        ) from None
-
-
-def names(text: str) -> tuple[str, ...]:
-    """Parse a comma-separated list of column names (an argparse type)."""
-    out = tuple(v.strip() for v in text.split(",") if v.strip())
-    if not 1 <= len(out) <= 3:
-        raise argparse.ArgumentTypeError(f"expected 1 to 3 column names, got {text!r}")
-    return out
-
-
-def codes(text: str) -> list[int]:
-    """Parse a comma-separated list of classification codes 0-255 (an argparse type)."""
-    try:
-        out = [int(v) for v in text.split(",")]
-    except ValueError:
-        out = []
-    if not out or not all(0 <= v <= 255 for v in out):
-        raise argparse.ArgumentTypeError(
-            f"expected comma-separated classification codes 0-255, such as 2,8; got {text!r}"
-        )
-    return out
-
-
-def count(text: str) -> int:
-    """Parse a positive whole number (an argparse type)."""
-    try:
-        v = int(text)
-    except ValueError:
-        v = 0
-    if v < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {text!r}")
-    return v
-
-
-def positive(text: str) -> float:
-    """Parse a positive number (an argparse type)."""
-    v = numbers(text)
-    if len(v) != 1 or not 0 < v[0] < np.inf:
-        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
-    return v[0]
-
-
-def source_options(p: argparse.ArgumentParser) -> None:
-    g = p.add_argument_group("reading the source")
-    g.add_argument(
-        "--coords",
-        type=names,
-        default=("x", "y"),
-        help="coordinate columns of a point file (default x,y; use x,y,z for 3D data)",
-    )
-    g.add_argument(
-        "--order",
-        type=int,
-        choices=(1, 2),
-        default=1,
-        help="point files: 1 linear (P1), 2 quadratic (P2) fit (default 1)",
-    )
-    g.add_argument("--max-edge", type=positive, help="point files: drop cells with a longer edge")
-    g.add_argument(
-        "--boundary",
-        type=Path,
-        help="point files: POLYGON.csv or .geojson (holes kept); its edges become mesh edges "
-        "and the cells outside are dropped (crossval: points outside get no residual)",
-    )
-    g.add_argument(
-        "--breaklines",
-        type=Path,
-        help="point files: LINES.csv with columns x,y[,value],line; the surface follows them",
-    )
-    g.add_argument("--field", help="use only this field (default: all)")
-    las = p.add_argument_group("LAS/LAZ point clouds (z is the value; needs the las extra)")
-    las.add_argument(
-        "--classes",
-        type=codes,
-        help="keep only these classification codes, e.g. 2 (ground) or 2,8",
-    )
-    las.add_argument("--every", type=count, metavar="N", help="keep every N-th point")
-    las.add_argument(
-        "--lowest-per-cell",
-        type=positive,
-        metavar="SIZE",
-        help="keep the lowest point in each SIZE x SIZE cell (ground from a raw cloud)",
-    )
-
-
-def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
-    stage(args, f"reading {path or args.source}")
-    return load(
-        path or args.source,
-        coords=args.coords,
-        order=args.order,
-        max_edge=args.max_edge,
-        boundary=region_of(args.boundary),
-        breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
-        field=args.field,
-        **las_options(args, path or args.source),
-    )
-
-
-def las_options(args: argparse.Namespace, path: Path) -> dict:
-    """The LAS/LAZ reading options given on the command line, checked against the source."""
-    options = {
-        "classes": args.classes,
-        "every": args.every,
-        "lowest_per_cell": args.lowest_per_cell,
-    }
-    if not is_las_file(path) and any(v is not None for v in options.values()):
-        raise interp.InterpError(
-            f"{path}: --classes, --every and --lowest-per-cell apply to .las/.laz sources only"
-        )
-    return options
-
-
-def region_of(path: Path | None) -> interp.Polygon | None:
-    if path is None:
-        return None
-    rings = interp.read_polygon(path)
-    try:
-        return interp.Polygon(rings[0], holes=rings[1:])
-    except interp.InterpError as exc:
-        raise interp.InterpError(f"{path}: {exc}") from None
-
-
-def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:
-    if args.json:
-        print(json.dumps(result, indent=2))
-    else:
-        print("\n".join(text))
-
-
-def fmt(v: float | None) -> str:
-    return "-" if v is None else f"{v:.6g}"
-
-
 def cmd_info(args: argparse.Namespace) -> None:
-    info = describe(open_source(args))
+    fields = open_source(args)
+    info = describe(fields)
+    info["units"] = args.units
     q = info["quality"]
+    mesh = next(iter(fields.values())).mesh
+    k = decimals(mesh.points)
+    dim = info["dimension"]
     lines = [
-        f"{info['dimension']}D mesh of {info['cells']:,} {info['cell_type']} cells, "
-        f"{info['nodes']:,} nodes",
+        f"{dim}D mesh of {info['cells']:,} {info['cell_type']} cells, {info['nodes']:,} nodes",
         "bounds: "
-        + ", ".join(f"{lo:.6g}..{hi:.6g}" for lo, hi in zip(*info["bounds"], strict=True)),
-        f"{('length', 'area', 'volume')[info['dimension'] - 1]}: {info['measure']:.6g}",
+        + ", ".join(
+            f"{number(lo, k)}..{number(hi, k)}" for lo, hi in zip(*info["bounds"], strict=True)
+        )
+        + (f" {args.units}" if args.units else ""),
+        f"{('length', 'area', 'volume')[dim - 1]}: {number(info['measure'], k)} "
+        f"{unit_power(args.units, dim)}".rstrip(),
         f"cell quality (radius ratio, 1 = regular): min {q['radius_ratio_min']:.3g}, "
         f"median {q['radius_ratio_median']:.3g}",
     ]
@@ -234,15 +76,21 @@ def cmd_info(args: argparse.Namespace) -> None:
         info["breaklines"] = {"count": len(found), "length": length}
         lines.append(f"breaklines: {len(found)}, total length {length:.6g}")
     for name, f in info["fields"].items():
+        kv = decimals(fields[name].values)
         lines.append(
             f"field {name}: {f['components']} component(s), range "
-            f"{fmt(f['min'])}..{fmt(f['max'])}, {f['nan']} node(s) without data"
+            f"{number(f['min'], kv)}..{number(f['max'], kv)}{unit_suffix(args.units)}, "
+            f"{f['nan']} node(s) without data"
         )
     emit(args, info, lines)
 
 
 #: grid outputs that store a coordinate reference system.
 CRS_SUFFIXES = (".tif", ".tiff", ".nc")
+
+
+def unit_suffix(units: str | None, power: int = 1) -> str:
+    return f" {unit_power(units, power)}" if units else ""
 
 
 def cmd_grid(args: argparse.Namespace) -> None:
@@ -291,8 +139,30 @@ def cmd_sample(args: argparse.Namespace) -> None:
             evaluate=evaluate,
         )
     progress.close()
-    if not args.quiet:
+    renamed = {c: o for c, o in report.columns.items() if c != o}
+    if args.json:
+        result = {
+            "path": str(report.path),
+            "rows": report.rows,
+            "outside": report.outside,
+            "columns": report.columns,
+            "checks": report.checks,
+            "units": args.units,
+        }
+        print(json.dumps(result, indent=2))
+    elif not args.quiet:
         print(f"wrote {report.path}: {report.rows:,} rows, {report.outside:,} outside the mesh")
+        for c, o in renamed.items():
+            print(f"  the query file has its own column {c}: the sampled one is {o}")
+    for column, check in report.checks.items():
+        if not args.quiet:
+            k = decimals(next(iter(fields.values())).values)
+            print(
+                f"interp: check points against {column}: {check['count']:,} with a known "
+                f"value, RMS residual {number(check['rms'], k)}, mean {number(check['mean'], k)}, "
+                f"largest |residual| {number(check['max_abs'], k)}{unit_suffix(args.units)}",
+                file=sys.stderr,
+            )
 
 
 def cmd_profile(args: argparse.Namespace) -> None:
@@ -307,21 +177,35 @@ def cmd_profile(args: argparse.Namespace) -> None:
     )
     out = prof.save(args.output)
     if not args.quiet:
-        print(f"wrote {out}: {len(prof.distance):,} samples over {prof.distance[-1]:.6g}")
+        k = decimals(np.asarray(line))
+        print(
+            f"wrote {out}: {len(prof.distance):,} samples over "
+            f"{number(prof.distance[-1], k)}{unit_suffix(args.units)}"
+        )
 
 
 def cmd_integrate(args: argparse.Namespace) -> None:
     region = region_of(args.region)
-    result = {}
+    result, lines = {}, []
     for name, f in open_source(args).items():
-        result[name] = interp.summarize(f, region=region)
-    lines = []
-    for name, r in result.items():
-        lines.append(
-            f"{name}: integral {fmt(r['integral'])}, measure {fmt(r['measure'])}, "
-            f"mean {fmt(r['mean'])}"
+        r = interp.summarize(f, region=region)
+        result[name] = {**r, "units": args.units}
+        k, d = places(f), f.mesh.dim
+        lines.append(f"{name} over {args.region or 'the whole mesh'}:")
+        lines += table(
+            [
+                ("integral", numbers_text(r["integral"], k), unit_power(args.units, d + 1)),
+                ("measure covered", number(r["measure"], k), unit_power(args.units, d)),
+                ("mean", numbers_text(r["mean"], k), unit_power(args.units, 1)),
+                ("region not covered", number(r["uncovered"], k), unit_power(args.units, d)),
+            ]
         )
     emit(args, result, lines)
+
+
+def numbers_text(v: float | list | None, k: int) -> str:
+    """A result of one or several components as text."""
+    return ", ".join(number(c, k) for c in v) if isinstance(v, list) else number(v, k)
 
 
 def cmd_volume(args: argparse.Namespace) -> None:
@@ -330,24 +214,47 @@ def cmd_volume(args: argparse.Namespace) -> None:
     upper = first_field(open_source(args, args.upper))
     lower = args.level if args.level is not None else first_field(open_source(args, args.lower))
     vol = interp.volume_between(upper, lower, region=region_of(args.region))
+    inputs = {
+        "upper": str(args.upper),
+        "lower": str(args.lower)
+        if args.lower is not None
+        else f"level {number(args.level, decimals([args.level]))}",
+        "region": str(args.region) if args.region else None,
+    }
     result = {
         "above": vol.above,
         "below": vol.below,
         "net": vol.net,
         "area": vol.area,
+        "uncovered": vol.uncovered,
+        "sign": SIGN,
+        "units": args.units,
+        "inputs": inputs,
         "caution": CAUTION,
     }
-    emit(
-        args,
-        result,
-        [
-            f"above (fill over the lower surface / cut): {vol.above:.6g}",
-            f"below: {vol.below:.6g}",
-            f"net (above - below): {vol.net:.6g}",
-            f"plan area: {vol.area:.6g}",
-            CAUTION,
-        ],
-    )
+    k, u = places(upper), args.units
+    extent = "where the upper surface has data"
+    if args.lower is not None:
+        extent = "where either surface has data"
+    lines = [
+        f"Volume between two surfaces ({SIGN})",
+        f"  upper surface:  {inputs['upper']}",
+        f"  lower surface:  {inputs['lower']}",
+        f"  region:         {inputs['region'] or extent}",
+        "",
+        *table(
+            [
+                ("material above (upper over lower)", number(vol.above, k), unit_power(u, 3)),
+                ("material below (upper under lower)", number(vol.below, k), unit_power(u, 3)),
+                ("difference (above - below)", number(vol.net, k), unit_power(u, 3)),
+                ("area covered", number(vol.area, k), unit_power(u, 2)),
+                ("area of the region not covered", number(vol.uncovered, k), unit_power(u, 2)),
+            ]
+        ),
+        "",
+        CAUTION,
+    ]
+    emit(args, result, lines)
 
 
 def first_field(fields: dict[str, interp.Field]) -> interp.Field:
@@ -369,24 +276,42 @@ def cmd_crossval(args: argparse.Namespace) -> None:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     region = region_of(args.boundary)
     beyond = ~region.contains(points) if region is not None else np.zeros(len(points), bool)
-    result, lines = {}, []
+    result, lines, residuals = {}, [], {}
     for name, v in values.items():
         stage(args, f"leave-one-out residuals of {name}")
-        residuals = interp.crossvalidate(
+        residuals[name] = interp.crossvalidate(
             points, v, order=args.order, max_edge=args.max_edge, boundary=region
         )
-        residuals[beyond] = np.nan
-        stats = interp.residual_summary(points, residuals, worst=args.worst)
+        residuals[name][beyond] = np.nan
+        stats = interp.residual_summary(points, residuals[name], worst=0)
+        del stats["worst"]
         stats["outside_boundary"] = int(beyond.sum())
-        result[name] = stats
-        lines.append(
-            f"{name}: {stats['count']:,} points, RMS {fmt(stats['rms'])}, "
-            f"mean {fmt(stats['mean'])}, max |r| {fmt(stats['max_abs'])}, "
-            f"{stats['outside'] - stats['outside_boundary']:,} outside the hull of the others"
-            + (f", {stats['outside_boundary']:,} outside the boundary" if region else "")
+        result[name] = {**stats, "units": args.units}
+        k = decimals(v)
+        lines.append(f"{name}: each point predicted from all the others (P{args.order} fit)")
+        rows = [
+            ("points predicted", f"{stats['count']:,}", ""),
+            (
+                "not predicted (outside the others or masked)",
+                f"{stats['outside'] - stats['outside_boundary']:,}",
+                "",
+            ),
+        ]
+        if region is not None:
+            rows.append(("outside the boundary", f"{stats['outside_boundary']:,}", ""))
+        lines += table(
+            [
+                *rows,
+                ("RMS residual", number(stats["rms"], k), args.units or ""),
+                ("mean residual (bias)", number(stats["mean"], k), args.units or ""),
+                ("largest |residual|", number(stats["max_abs"], k), args.units or ""),
+            ]
         )
-        for w in stats["worst"]:
-            lines.append(f"  row {w['row']}: at {w['point']}, residual {w['residual']:.6g}")
+    if args.output:
+        out = interp.write_residuals(args.output, points, values, residuals, args.coords)
+        lines.append(f"residual = measured - predicted, per point in {out}")
+        for stats in result.values():
+            stats["residuals"] = str(out)
     emit(args, result, lines)
 
 
@@ -444,7 +369,7 @@ EXAMPLES = {
     "profile": "interp profile data/yard_2026_03.csv --line 0,20,80,20 --step 0.5 -o section.csv",
     "integrate": "interp integrate data/yard_2026_03.csv --region data/yard_boundary.csv",
     "volume": "interp volume data/yard_2026_03.csv --level 100 --region data/yard_boundary.csv",
-    "crossval": "interp crossval data/yard_2026_03.csv --json",
+    "crossval": "interp crossval data/yard_2026_03.csv -o residuals.csv",
     "contour": "interp contour data/yard_2026_03.csv --interval 0.5 -o contours.geojson",
     "view": "interp view data/yard_2026_03.csv --warp 2 --contours 10 --screenshot yard.png",
     "demo": "interp demo --out interp-demo",
@@ -518,6 +443,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p.add_argument("--scheduler", help="address of a running dask.distributed scheduler")
     source_options(p)
+    json_flag(p)
 
     p = add("profile", "sample along a section line", cmd_profile)
     p.add_argument("source", type=Path)
@@ -542,7 +468,12 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("crossval", "leave-one-out residuals of a point file", cmd_crossval)
     p.add_argument("source", type=Path, help="point file")
-    p.add_argument("--worst", type=int, default=5, help="how many worst points to list")
+    p.add_argument(
+        "-o",
+        "--output",
+        type=Path,
+        help="CSV of every point: coordinates, value, predicted, residual",
+    )
     source_options(p)
     json_flag(p)
 

@@ -143,6 +143,7 @@ def run(
             "below": v.below,
             "net": v.net,
             "area": v.area,
+            "uncovered": v.uncovered,
             "true": true,
             "error_percent": 100 * (v.net - true) / true,
         }
@@ -160,6 +161,7 @@ def run(
             "below": change.below,
             "net": change.net,
             "area": change.area,
+            "uncovered": change.uncovered,
         },
         "crossvalidation": residual_summary(points, residuals),
         "bracket": {

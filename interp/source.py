@@ -8,6 +8,7 @@ functions are what the command line calls; they are as usable from Python.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Iterator, Sequence
 from contextlib import ExitStack
 from dataclasses import dataclass
@@ -54,6 +55,7 @@ def load(
     classes: Sequence[int] | None = None,
     every: int | None = None,
     lowest_per_cell: float | None = None,
+    units: str | None = None,
 ) -> dict[str, Field]:
     """Read a source file as named fields.
 
@@ -78,6 +80,8 @@ def load(
         LAS/LAZ files only: classification codes to keep, every n-th point,
         the lowest point per square cell of this size; see
         :func:`interp.io._las.read_las`.
+    units : str, optional
+        Units of the values given to every field (labels, grids, reports).
 
     Examples
     --------
@@ -108,14 +112,17 @@ def load(
         fields = {}
         for name, v in chosen.items():
             try:
-                fields[name] = fit(points, v, **options, breaklines=breaklines, name=name)
+                fields[name] = fit(
+                    points, v, **options, breaklines=breaklines, name=name, units=units
+                )
             except InterpError as exc:
                 raise InterpError(f"{path}, column {name!r}: {exc}") from None
         return fields
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
-    return {name: Field(mesh, v, name=name) for name, v in choose_fields(data, field, path).items()}
+    chosen = choose_fields(data, field, path)
+    return {name: Field(mesh, v, name=name, units=units) for name, v in chosen.items()}
 
 
 def choose_fields(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
@@ -178,11 +185,26 @@ def describe(fields: dict[str, Field]) -> dict:
 
 @dataclass(frozen=True)
 class SampleReport:
-    """What :func:`sample_file` did: rows read and rows outside the mesh."""
+    """What :func:`sample_file` did: rows read, rows outside the mesh, and check points.
+
+    ``columns`` maps each sampled field (component) to its column in the
+    output.  ``checks`` holds, for each sampled column that the query file
+    also has as a known value, ``count`` (rows with both), ``rms``, ``mean``
+    and ``max_abs`` of the residual known minus sampled (None without rows).
+    """
 
     rows: int
     outside: int
     path: Path
+    columns: dict[str, str] = dataclasses.field(default_factory=dict)
+    checks: dict[str, dict] = dataclasses.field(default_factory=dict)
+
+
+#: suffix of a sampled column whose name the query file already uses.
+SAMPLED = "_sampled"
+
+#: suffix of the residual column of a check point (known minus sampled).
+RESIDUAL = "_residual"
 
 
 def sample_file(
@@ -199,11 +221,15 @@ def sample_file(
 
     Each row of the query file is written unchanged, followed by one column
     per field (one per component for vector fields); points outside the mesh
-    get empty cells.  A LAS/LAZ query cloud (``.las``, ``.laz``) is streamed
-    the same way and written as comma-separated columns ``x, y`` (``z``) and
-    its fields (``z`` and extra dimensions), then the sampled fields.  Memory
-    stays bounded by ``chunk_rows`` however long the file.  The output is
-    written atomically.
+    get empty cells.  A sampled column whose name the query file already has
+    (compared ignoring case) is written as ``<name>_sampled``, so no two
+    columns share a name.  When that query column holds numbers it is taken
+    as a known value at a check point: a column ``<name>_residual``, known
+    minus sampled, follows, and the report gives the RMS of the residuals.
+    A LAS/LAZ query cloud (``.las``, ``.laz``) is streamed the same way and
+    written as comma-separated columns ``x, y`` (``z``) and its fields (``z`` and
+    extra dimensions), then the sampled fields.  Memory stays bounded by
+    ``chunk_rows`` however long the file.  The output is written atomically.
 
     Parameters
     ----------
@@ -222,6 +248,12 @@ def sample_file(
     1
     >>> (d / "o.csv").read_text().splitlines()
     ['id,x,y,z', 'A,0.25,0.25,3', 'B,5,5,']
+    >>> _ = (d / "c.csv").write_text("x,y,z\\n0.25,0.25,3.5\\n0.5,0,1.5\\n")
+    >>> report = sample_file({"z": f}, d / "c.csv", d / "o.csv")
+    >>> (d / "o.csv").read_text().splitlines()
+    ['x,y,z,z_sampled,z_residual', '0.25,0.25,3.5,3,0.5', '0.5,0,1.5,2,-0.5']
+    >>> report.checks["z_sampled"]["rms"]
+    0.5
     """
     if Path(out).resolve() == Path(query).resolve():
         raise InterpError(
@@ -230,29 +262,86 @@ def sample_file(
         )
     evaluate = evaluate or (lambda f, p: f(p))
     rows = outside = 0
-    names = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
+    sampled = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         writer = None
-        for head, delimiter, text, points, lead in _query_blocks(query, coords, chunk_rows):
+        blocks = _query_blocks(query, coords, chunk_rows)
+        for head, delimiter, text, points, lead, numeric in blocks:
             if writer is None:
-                writer = stack.enter_context(TableWriter(out, head + names, delimiter))
+                columns, known, residuals = _output_columns(head, numeric, sampled)
+                header = head + [h for c in sampled for h in (columns[c], residuals.get(c)) if h]
+                writer = stack.enter_context(TableWriter(out, header, delimiter))
+                sums = {c: np.zeros(3) for c in known}
+                worst = dict.fromkeys(known, 0.0)
             values = np.hstack(
                 [evaluate(f, points).reshape(len(points), -1) for f in fields.values()]
             )
             outside += int(np.isnan(values).all(axis=1).sum())
-            writer.write(text, values if lead is None else np.hstack([lead, values]))
+            table = []
+            for j, c in enumerate(sampled):
+                table.append(values[:, j])
+                if c in known:
+                    r = numeric[known[c]] - values[:, j] if known[c] in numeric else None
+                    r = np.full(len(values), np.nan) if r is None else r
+                    table.append(r)
+                    ok = r[np.isfinite(r)]
+                    sums[c] += (ok.size, ok.sum(), (ok**2).sum())
+                    worst[c] = max(worst[c], float(np.abs(ok).max(initial=0.0)))
+            block = np.column_stack(table)
+            writer.write(text, block if lead is None else np.hstack([lead, block]))
             rows += len(points)
             if progress:
                 progress(rows)
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
-    return SampleReport(rows, outside, Path(out))
+    checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
+    return SampleReport(rows, outside, Path(out), columns, checks)
+
+
+def _output_columns(names: list[str], numeric: dict, sampled: list[str]) -> tuple[dict, ...]:
+    """For each sampled column: its output name, the numeric query column it checks
+    against, and the name of its residual column; no name is used twice."""
+    query = {n.casefold(): n for n in names}
+    taken = set(query)
+    columns, known, residuals = {}, {}, {}
+    for c in sampled:
+        if c.casefold() not in query:
+            columns[c] = _free(c, "", taken)
+            continue
+        columns[c] = _free(c, SAMPLED, taken)
+        if query[c.casefold()] in numeric:
+            known[c] = query[c.casefold()]
+            residuals[c] = _free(c, RESIDUAL, taken)
+    return columns, known, residuals
+
+
+def _free(name: str, suffix: str, taken: set[str]) -> str:
+    """``name + suffix``, numbered when a column already has that name; marked as taken."""
+    out, k = name + suffix, 1
+    while out.casefold() in taken:
+        k += 1
+        out = f"{name}{suffix}{k}"
+    taken.add(out.casefold())
+    return out
+
+
+def _check_summary(sums: np.ndarray, worst: float) -> dict:
+    count, total, squares = int(sums[0]), float(sums[1]), float(sums[2])
+    if not count:
+        return {"count": 0, "rms": None, "mean": None, "max_abs": None}
+    return {
+        "count": count,
+        "rms": float(np.sqrt(squares / count)),
+        "mean": total / count,
+        "max_abs": worst,
+    }
 
 
 def _query_blocks(
     query: str | Path, coords: Sequence[str], chunk_rows: int
-) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None]]:
-    """Blocks of a query file: header, delimiter, raw rows, points, leading numbers.
+) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None, dict]]:
+    """Blocks of a query file: header, delimiter, raw rows, points, leading numbers,
+    and the numeric query columns by name.
 
     A point file's rows are written back as they are (no leading numbers); a
     LAS/LAZ cloud's points as comma-separated x, y(, z) and their fields.
@@ -261,7 +350,7 @@ def _query_blocks(
         for chunk in iter_las_chunks(query, coords=coords, chunk_points=chunk_rows):
             columns = dict(zip(coords, chunk.points.T, strict=True)) | chunk.fields
             head, lead = field_columns(columns, len(chunk.points))
-            yield head, ",", None, chunk.points, lead
+            yield head, ",", None, chunk.points, lead, columns
         return
     for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
-        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None
+        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None, chunk.values

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from interp._integrate import integrate_pieces
+from interp._integrate import integrate_pieces, measure, region_measure, uncovered
 from interp._overlay import overlay_cells
 from interp.clip import (
     Pieces,
@@ -48,8 +48,7 @@ class Volumes:
     above : float
         Volume where upper > lower: what fills the space over the lower
         surface.  With the existing ground as upper and a design level as
-        lower, it is the cut (material to remove), which the command line
-        prints as "above (fill over the lower surface / cut)".
+        lower, it is the cut (material to remove).
     below : float
         Volume where upper < lower, as a positive number (with the ground as
         upper: the fill, material to bring).
@@ -57,10 +56,16 @@ class Volumes:
         above - below: the integral of upper - lower.
     area : float
         Plan area over which both surfaces are defined (within the region).
+    uncovered : float
+        Plan area of the region where the surfaces are not both defined (no
+        data on either, or outside either mesh), which the volumes leave out.
+        The region is the one given, or without one the plan extent of either
+        surface (the upper surface alone against a level); an unbounded
+        region (a HalfSpace) is taken within that extent.
 
     Examples
     --------
-    >>> Volumes(above=3.0, below=1.0, net=2.0, area=4.0).net
+    >>> Volumes(above=3.0, below=1.0, net=2.0, area=4.0, uncovered=0.0).net
     2.0
     """
 
@@ -68,6 +73,7 @@ class Volumes:
     below: float
     net: float
     area: float
+    uncovered: float
 
 
 def volume_between(
@@ -98,10 +104,16 @@ def volume_between(
     Returns
     -------
     Volumes
-        ``above``, ``below``, ``net`` and ``area``, in the units of the
-        coordinates (area) and of the coordinates squared times the values
-        (volumes).  Cells with a NaN node value on either surface are left
-        out of all four.
+        ``above``, ``below``, ``net``, ``area`` and ``uncovered``, in the units
+        of the coordinates (areas) and of the coordinates squared times the
+        values (volumes).  Cells with a NaN node value on either surface are
+        left out of the volumes and of ``area``, and count as ``uncovered``.
+
+    Warns
+    -----
+    UserWarning
+        When ``uncovered`` is over 0.1% of the region: the volumes are then
+        those of the covered part only.
 
     Examples
     --------
@@ -110,8 +122,8 @@ def volume_between(
     >>> mesh = Mesh([[0.0, 0], [2, 0], [2, 2], [0, 2]], [[0, 1, 2], [0, 2, 3]])
     >>> ground = Field(mesh, mesh.points[:, 0])          # z = x, from 0 to 2
     >>> v = volume_between(ground, 0.5)
-    >>> [round(x, 12) for x in (v.above, v.below, v.net, v.area)]
-    [2.25, 0.25, 2.0, 4.0]
+    >>> [round(x, 12) for x in (v.above, v.below, v.net, v.area, v.uncovered)]
+    [2.25, 0.25, 2.0, 4.0, 0.0]
     """
     check_surface(upper, "upper")
     level = None
@@ -131,6 +143,7 @@ def volume_between(
     if not isinstance(subdivisions, int) or subdivisions < 0:
         raise InterpError(f"subdivisions must be an integer >= 0; got {subdivisions!r}")
     corners, pa, pb = _common_pieces(upper, lower, level, region)
+    extent = _extent(upper, lower, level, region, float(Pieces(pa, corners).measure().sum()))
     d = _difference(upper, lower, level, corners, pa, pb)
     known = ~np.isnan(d).any(axis=1)
     corners, pa, pb, d = corners[known], pa[known], pb[known], d[known]
@@ -142,7 +155,8 @@ def volume_between(
     area = float(Pieces(pa, corners).measure().sum())
     above = _integral(upper, lower, level, *_part(corners, pa, pb, -d), degree)
     below = 0.0 - _integral(upper, lower, level, *_part(corners, pa, pb, d), degree)
-    return Volumes(above=above, below=below, net=above - below, area=area)
+    missing = uncovered(extent, area, "the volume")
+    return Volumes(above=above, below=below, net=above - below, area=area, uncovered=missing)
 
 
 def check_surface(field: object, name: str) -> None:
@@ -163,6 +177,20 @@ def check_surface(field: object, name: str) -> None:
         )
     if field.n_components != 1:
         raise InterpError(f"{name} must be a scalar field; it has {field.n_components} components")
+
+
+def _extent(upper, lower, level, region, both: float) -> float:
+    """Plan area the volumes should cover: the region's, or the surfaces' extent within it.
+
+    ``both`` is the area where the two meshes overlap (within the region).
+    """
+    size = region_measure(region)
+    if size is not None:
+        return size
+    size = measure(upper.mesh, region)
+    if level is None:
+        size += measure(lower.mesh, region) - both
+    return size
 
 
 def _common_pieces(upper, lower, level, region):

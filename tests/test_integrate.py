@@ -5,6 +5,7 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
+import shapely
 import sympy as sp
 from conftest import cube_mesh, square_mesh
 from hypothesis import given, settings
@@ -24,8 +25,10 @@ from interp import (
     mean,
     measure,
     norm_l2,
+    summarize,
     triangulate,
 )
+from interp._integrate import region_measure
 
 X, Y, Z = sp.symbols("x y z")
 LINEAR_2D = 0.5 - 2 * X + 3 * Y
@@ -315,3 +318,30 @@ def test_bad_input():
 
 def test_public_names():
     assert interp.integrate is integrate and interp.quadrature("line", 0)[1].tolist() == [1.0]
+
+
+def test_region_half_outside_the_mesh_reports_the_uncovered_area():
+    g = np.linspace(0.0, 10.0, 6)
+    mesh = triangulate(np.stack(np.meshgrid(g, g), axis=-1).reshape(-1, 2))
+    ring = [[4.0, 2.0], [16.0, 1.0], [18.0, 7.5], [9.0, 9.0], [3.0, 6.0]]
+    square = shapely.box(0, 0, 10, 10)
+    # reference: shapely areas of the region outside and inside the mesh's square
+    outside = shapely.Polygon(ring).difference(square).area
+    inside = shapely.Polygon(ring).intersection(square).area
+    with pytest.warns(UserWarning, match="the integral leaves out"):
+        s = summarize(Field(mesh, np.full(mesh.n_nodes, 2.0)), region=Polygon(ring))
+    assert s["uncovered"] == pytest.approx(outside, rel=1e-12)
+    assert s["integral"] == pytest.approx(2.0 * inside, rel=1e-12)
+    with pytest.warns(UserWarning, match="the integral leaves out"):
+        integrate(Field(mesh, np.full(mesh.n_nodes, 2.0)), region=Polygon(ring))
+
+
+def test_region_measure_of_intersections():
+    tri = [[0.0, 0], [4, 0], [0, 4]]
+    # reference: shapely area of the triangle cut by x <= 1.5
+    cut = shapely.Polygon(tri).intersection(shapely.box(-1, -1, 1.5, 5)).area
+    assert region_measure(Polygon(tri) & HalfSpace([1, 0], 1.5)) == pytest.approx(cut, rel=1e-12)
+    # the unit cube cut by x + y + z <= 1 is the corner tetrahedron, volume 1/6 (by hand)
+    corner = Box([0, 0, 0], [1, 1, 1]) & HalfSpace([1, 1, 1], 1.0)
+    assert region_measure(corner) == pytest.approx(1.0 / 6.0, rel=1e-12)
+    assert region_measure(HalfSpace([1, 0], 1.5)) is None and region_measure(None) is None

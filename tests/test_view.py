@@ -15,6 +15,7 @@ from conftest import cube_mesh, square_mesh
 
 import interp
 from interp import view
+from interp._format import number
 from interp.grid import Grid
 from interp.resample import Profile
 from interp.view import _render, plot, plot_difference, plot_profile, plot_residuals
@@ -338,7 +339,7 @@ def test_difference_is_centred_on_zero_with_volumes_in_the_title(tmp_path):
     centre = [0.0, 0.0, 0.0]
     p.scalar_bar.GetLookupTable().GetColor(0.0, centre)
     assert min(centre) > 0.9
-    assert f"above {vols.above:.6g}" in title_of(p)
+    assert f"above {number(vols.above)}" in title_of(p)
     p.close()
     out = interp.show_difference(ground, level, screenshot=tmp_path / "d.png", window_size=SIZE)
     img = read_png(out)

@@ -102,14 +102,47 @@ def test_quadratic_surface_net_is_exact_and_split_converges():
 
 def test_missing_values_leave_their_cells_out():
     mesh = Mesh([[0.0, 0], [2, 0], [2, 2], [0, 2]], [[0, 1, 2], [0, 2, 3]])
-    v = volume_between(Field(mesh, [1.0, 1.0, 1.0, np.nan]), 0.0)
-    assert v.area == 2.0 and v.above == pytest.approx(2.0, rel=1e-14)
+    with pytest.warns(UserWarning, match="leaves out 2 of the region's 4"):
+        v = volume_between(Field(mesh, [1.0, 1.0, 1.0, np.nan]), 0.0)
+    assert v.area == 2.0 and v.above == pytest.approx(2.0, rel=1e-14) and v.uncovered == 2.0
 
 
 def test_region_outside_the_surface_gives_zero():
     mesh = square_mesh(50, 7)
-    v = volume_between(plane(mesh, 1.0, 0.1, 0.1), 0.0, Polygon([[50, 50], [60, 50], [55, 60]]))
-    assert v == Volumes(above=0.0, below=0.0, net=0.0, area=0.0)
+    # the whole triangle (area 10 * 10 / 2 = 50) lies outside the data
+    with pytest.warns(UserWarning, match=r"leaves out 50 of the region's 50 \(100%\)"):
+        v = volume_between(plane(mesh, 1.0, 0.1, 0.1), 0.0, Polygon([[50, 50], [60, 50], [55, 60]]))
+    assert v == Volumes(above=0.0, below=0.0, net=0.0, area=0.0, uncovered=50.0)
+
+
+def test_region_half_outside_the_data_reports_the_uncovered_area():
+    mesh = square_mesh(400, 11)
+    ring = [[4.0, 2.0], [16.0, 1.0], [18.0, 7.5], [9.0, 9.0], [3.0, 6.0]]
+    # reference: shapely area of the region minus the data's square, and of their overlap
+    outside = shapely.Polygon(ring).difference(shapely.box(0, 0, 10, 10)).area
+    inside = shapely.Polygon(ring).intersection(shapely.box(0, 0, 10, 10)).area
+    with pytest.warns(UserWarning, match="the volume leaves out"):
+        v = volume_between(plane(mesh, 3.0, 0.0, 0.0), 1.0, Polygon(ring))
+    assert v.uncovered == pytest.approx(outside, rel=1e-12)
+    assert v.area == pytest.approx(inside, rel=1e-12)
+    assert v.net == pytest.approx(2.0 * inside, rel=1e-12)
+
+
+def test_surfaces_extent_without_a_region():
+    # [0, 10]^2 against [5, 15]^2: union 100 + 100 - 25 = 175, both defined on 25 (by hand)
+    a = square_mesh(100, 12)
+    b = triangulate(square_mesh(100, 13).points + 5.0)
+    with pytest.warns(UserWarning, match=r"leaves out 150 of the region's 175"):
+        v = volume_between(plane(a, 3.0, 0.0, 0.0), plane(b, 1.0, 0.0, 0.0))
+    assert v.uncovered == pytest.approx(150.0, rel=1e-12)
+    assert v.area == pytest.approx(25.0, rel=1e-12)
+
+
+def test_covered_region_reports_nothing_uncovered(recwarn):
+    mesh = square_mesh(200, 14)
+    v = volume_between(plane(mesh, 3.0, 0.0, 0.0), 1.0, Box([1, 1], [9, 9]))
+    assert v.uncovered == pytest.approx(0.0, abs=1e-9) and v.area == pytest.approx(64.0)
+    assert not [w for w in recwarn if "leaves out" in str(w.message)]
 
 
 def test_bad_input_is_refused():

@@ -155,9 +155,9 @@ def read_points(
 
     The file format is that of :func:`iter_point_chunks`.  Text columns are
     skipped with a warning naming them.  A row with a missing or non-numeric
-    coordinate is an error naming its line.  A ``.las`` or ``.laz`` point
-    cloud is read whole by :func:`interp.io._las.read_las` (coordinates
-    ``("x", "y")`` or ``("x", "y", "z")``; needs the ``las`` extra).
+    coordinate, or an infinite value, is an error naming its line.  A ``.las``
+    or ``.laz`` point cloud is read whole by :func:`interp.io._las.read_las`
+    (coordinates ``("x", "y")`` or ``("x", "y", "z")``; needs the ``las`` extra).
 
     Returns
     -------
@@ -176,7 +176,14 @@ def read_points(
     """
     if is_las_file(path):  # LAS/LAZ point clouds
         return read_las_points(path, coords=coords)
-    points, values, _, text_columns = read_table(path, coords)
+    points, values, numbers, text_columns = read_table(path, coords)
+    for name, column in values.items():
+        bad = np.flatnonzero(np.isinf(column))
+        if bad.size:
+            raise InterpError(
+                f"{path}, line {numbers[bad[0]]}: the value in column {name!r} is infinite "
+                f"({bad.size} row(s) in all); leave the cell empty to mark no data"
+            )
     if text_columns:
         listed = ", ".join(f"{name!r} (line {line})" for name, line in text_columns.items())
         warnings.warn(

@@ -6,6 +6,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from interp._format import number
 from interp.errors import InterpError
 from interp.field import Field
 
@@ -58,4 +59,4 @@ def volumes_text(volumes: object) -> str:
             "volumes must have numeric attributes above, below, net and area (as the result "
             f"of interp.volume_between); got a {type(volumes).__name__}"
         ) from None
-    return "   ".join(f"{k} {v:.6g}" for k, v in parts)
+    return "   ".join(f"{k} {number(v)}" for k, v in parts)
