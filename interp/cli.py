@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import re
 import sys
 import time
 import warnings
@@ -18,13 +19,34 @@ from pathlib import Path
 import numpy as np
 
 import interp
-from interp.source import choose_fields, describe, load, sample_file
+from interp.grid import corner_bounds
+from interp.source import (
+    choose_fields,
+    describe,
+    describe_grid,
+    is_grid_file,
+    load,
+    sample_file,
+)
 
 CAUTION = (
     "Caution: computed volumes depend on survey density and method; check them against the "
     "applicable survey standards and licensed practice before using them for payment, design "
     "or safety decisions."
 )
+
+
+#: a value such as ``-512000.5,-20,3e5``: a number list taken as an option's value, not an option
+NUMBER_LIST = re.compile(r"^-\.?\d[-+.,\deE]*$")
+
+
+class Parser(argparse.ArgumentParser):
+    """An argument parser that takes comma-separated numbers starting with ``-`` as values,
+    so ``--bounds -10,-5,10,5`` needs no ``=`` (none of our options looks like a number)."""
+
+    def __init__(self, *args, **kwargs) -> None:
+        super().__init__(*args, **kwargs)
+        self._negative_number_matcher = NUMBER_LIST
 
 
 class Progress:
@@ -79,6 +101,16 @@ def positive(text: str) -> float:
     if len(v) != 1 or not v[0] > 0:
         raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
     return v[0]
+
+
+def spacings(text: str) -> list[float]:
+    """Parse one positive number or one per axis (an argparse type)."""
+    v = numbers(text)
+    if not 1 <= len(v) <= 3 or not all(s > 0 for s in v):
+        raise argparse.ArgumentTypeError(
+            f"expected a positive spacing, or one per axis (e.g. 0.5,1.0), got {text!r}"
+        )
+    return v
 
 
 def source_options(p: argparse.ArgumentParser) -> None:
@@ -145,6 +177,9 @@ def fmt(v: float | None) -> str:
 
 
 def cmd_info(args: argparse.Namespace) -> None:
+    if is_grid_file(args.source):
+        info_grid(args)
+        return
     info = describe(open_source(args))
     q = info["quality"]
     lines = [
@@ -152,7 +187,7 @@ def cmd_info(args: argparse.Namespace) -> None:
         f"{info['nodes']:,} nodes",
         "bounds: "
         + ", ".join(f"{lo:.6g}..{hi:.6g}" for lo, hi in zip(*info["bounds"], strict=True)),
-        f"{('length', 'area', 'volume')[info['dimension'] - 1]}: {info['measure']:.6g}",
+        f"{info['measure_name']}: {info['measure']:.6g}",
         f"cell quality (radius ratio, 1 = regular): min {q['radius_ratio_min']:.3g}, "
         f"median {q['radius_ratio_median']:.3g}",
     ]
@@ -166,13 +201,37 @@ def cmd_info(args: argparse.Namespace) -> None:
     emit(args, info, lines)
 
 
+def info_grid(args: argparse.Namespace) -> None:
+    info = describe_grid(args.source)
+    lines = [
+        f"{info['dimension']}D grid of {' x '.join(map(str, info['shape']))} nodes, spacing "
+        + ", ".join(f"{s:.12g}" for s in info["spacing"]),
+        "bounds: "
+        + ", ".join(
+            f"{a} {lo:.12g}..{hi:.12g}" for a, lo, hi in zip("xyz", *info["bounds"], strict=False)
+        ),
+    ]
+    for name, f in info["fields"].items():
+        lines.append(
+            f"field {name}: {f['components']} component(s), range "
+            f"{fmt(f['min'])}..{fmt(f['max'])}, {f['nan']:,} node(s) without data"
+        )
+    emit(args, info, lines)
+
+
 def cmd_grid(args: argparse.Namespace) -> None:
     fields = open_source(args)
     stage(args, "evaluating the grid")
-    grid = interp.to_grid(fields, spacing=args.spacing, bounds=args.bounds)
+    bounds = None if args.bounds is None else corner_bounds(args.bounds)
+    grid = interp.to_grid(fields, spacing=args.spacing, bounds=bounds)
+    inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
+    if not inside:
+        raise interp.InterpError(
+            f"no grid node falls inside the data, so {args.output} was not written; give "
+            "--bounds that overlap the data (see `interp info`)"
+        )
     stage(args, f"writing {args.output}")
     out = grid.save(args.output)
-    inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
     if not args.quiet:
         print(
             f"wrote {out}: {' x '.join(map(str, grid.shape))} grid, fields "
@@ -199,6 +258,11 @@ def cmd_profile(args: argparse.Namespace) -> None:
     prof = interp.profile(
         open_source(args), [line[i : i + g] for i in range(0, len(line), g)], step=args.step
     )
+    if all(np.isnan(v).all() for v in prof.fields.values()):
+        raise interp.InterpError(
+            f"the --line lies entirely outside the data, so {args.output} was not written; "
+            "check its coordinates against the data bounds (see `interp info`)"
+        )
     out = prof.save(args.output)
     if not args.quiet:
         print(f"wrote {out}: {len(prof.distance):,} samples over {prof.distance[-1]:.6g}")
@@ -316,12 +380,12 @@ EXAMPLES = {
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = Parser(
         prog="interp",
         description="Finite-element interpolation of survey and simulation fields.",
     )
     parser.add_argument("--version", action="version", version=f"interp {interp.__version__}")
-    common = argparse.ArgumentParser(add_help=False)
+    common = Parser(add_help=False)
     common.add_argument("-q", "--quiet", action="store_true", help="no progress or messages")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
@@ -347,8 +411,18 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("grid", "evaluate on a regular grid (.npz, .csv, .vti)", cmd_grid)
     p.add_argument("source", type=Path)
-    p.add_argument("--spacing", type=positive, required=True, help="grid node spacing")
-    p.add_argument("--bounds", type=numbers, help="xmin,xmax,ymin,ymax[,zmin,zmax]")
+    p.add_argument(
+        "--spacing",
+        type=spacings,
+        required=True,
+        help="grid node spacing: one number, or one per axis (0.5,1.0)",
+    )
+    p.add_argument(
+        "--bounds",
+        type=numbers,
+        help="minx,miny,maxx,maxy (3D: minx,miny,minz,maxx,maxy,maxz): the lower corner, then "
+        "the upper one, as in GIS and GeoJSON (default the data's bounds)",
+    )
     p.add_argument("-o", "--output", type=Path, required=True, help="output .npz, .csv or .vti")
     source_options(p)
 
