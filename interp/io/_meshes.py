@@ -129,9 +129,10 @@ def _top_cells(path: Path, blocks: list[meshio.CellBlock]) -> tuple[str, np.ndar
             dropped[b.type] = dropped.get(b.type, 0) + len(b.data)
     if dropped:
         listed = ", ".join(f"{n:,} {kind} cell{'s' * (n != 1)}" for kind, n in dropped.items())
+        kept = sum(counts.values())
         warnings.warn(
-            f"{path}: dropped {listed} of lower dimension than its {found} cells; the mesh is "
-            f"made of the {top}D cells only",
+            f"{path}: dropped {listed}: the mesh is made of the {kept:,} {'/'.join(counts)} "
+            f"cells, those of the highest dimension ({top}D) in the file",
             stacklevel=3,
         )
     (kind,) = counts
