@@ -122,7 +122,7 @@ def save_grid(grid: GridLike, path: str | Path) -> Path:
     size = estimated_bytes(grid, path.suffix.lower())
     if size > LARGE_OUTPUT_BYTES:
         warnings.warn(
-            f"writing {path}: about {size / 1e9:.1f} GB ({' x '.join(map(str, grid.shape))} "
+            f"writing {path}: about {size / 1e9:.3g} GB ({' x '.join(map(str, grid.shape))} "
             "nodes); use a larger spacing or smaller bounds for a smaller file",
             stacklevel=2,
         )
