@@ -104,10 +104,10 @@ def axes_and_camera(plotter: pyvista.Plotter, scene: Scene, warp: float | None) 
 def add_contours(
     plotter: pyvista.Plotter, lines: pyvista.PolyData, levels: np.ndarray, width: float
 ) -> None:
-    """Contour lines (actor ``"contours"``) over a dark halo (``"contour halo"``), each
-    level labelled once with its value (``"contour labels"``)."""
+    """Contour lines (actor ``"contours"``) over a dark halo (``"contour-halo"``), each
+    level labelled once with its value (``"contour-labels"``)."""
     plotter.add_mesh(
-        lines, name="contour halo", color=CONTOUR_DARK, line_width=width + 2.5, lighting=False
+        lines, name="contour-halo", color=CONTOUR_DARK, line_width=width + 2.5, lighting=False
     )
     plotter.add_mesh(lines, name="contours", color=CONTOUR_LIGHT, line_width=width, lighting=False)
     values = np.asarray(lines[SCALARS])
@@ -123,7 +123,7 @@ def add_contours(
         plotter.add_point_labels(
             np.array(where),
             text,
-            name="contour labels",
+            name="contour",
             font_size=font(plotter, 1 / 55),
             text_color="black",
             shape_color="white",
