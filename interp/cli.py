@@ -353,6 +353,7 @@ def cmd_view(args: argparse.Namespace) -> None:
         edges=args.edges,
         points=args.points or None,
         screenshot=args.screenshot,
+        title=args.title,
     )
     if out is not None and not args.quiet:
         print(f"wrote {out}")
@@ -368,7 +369,7 @@ def cmd_demo(args: argparse.Namespace) -> None:
 
 EXAMPLES = {
     "info": "interp info data/yard_2026_03.csv",
-    "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 -o yard.npz",
+    "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 --bounds 0,0,80,60 -o yard.npz",
     "sample": "interp sample data/yard_2026_03.csv query.csv -o sampled.csv",
     "profile": "interp profile data/yard_2026_03.csv --line 0,20,80,20 --step 0.5 -o section.csv",
     "integrate": "interp integrate data/yard_2026_03.csv --region data/yard_boundary.csv",
@@ -421,7 +422,8 @@ def build_parser() -> argparse.ArgumentParser:
         "--bounds",
         type=numbers,
         help="minx,miny,maxx,maxy (3D: minx,miny,minz,maxx,maxy,maxz): the lower corner, then "
-        "the upper one, as in GIS and GeoJSON (default the data's bounds)",
+        "the upper one, as in GIS and GeoJSON (default the data's bounds); earlier versions "
+        "took xmin,xmax,ymin,ymax",
     )
     p.add_argument("-o", "--output", type=Path, required=True, help="output .npz, .csv or .vti")
     source_options(p)
@@ -474,7 +476,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = add("view", "show a surface or volume, or write a PNG", cmd_view)
     p.add_argument("source", type=Path)
     p.add_argument("--warp", type=float, help="vertical exaggeration of the surface")
-    p.add_argument("--contours", type=int, help="number of contour levels")
+    p.add_argument("--contours", type=int, help="number of contour levels (1 to 100), labelled")
+    p.add_argument("--title", help="title above the picture (default the field and its units)")
     p.add_argument("--edges", action="store_true", help="draw cell edges")
     p.add_argument("--points", action="store_true", help="draw the data points")
     p.add_argument("--screenshot", type=Path, help="write a PNG instead of opening a window")
