@@ -56,6 +56,23 @@ def decimals(span: float) -> int:
     return int(min(6, max(0, 1 - np.floor(np.log10(span)))))
 
 
+def tick_decimals(lo: float, hi: float, n: int) -> int:
+    """Decimal places that write the n evenly spaced ticks from lo to hi exactly, up to 2;
+    ticks that need more (a range of data, 99.653..106.715) get the places of :func:`decimals`
+    for their step, which tell neighbouring ticks apart.
+
+    Examples
+    --------
+    >>> tick_decimals(0.0, 90.0, 5), tick_decimals(0.0, 600.0, 5), tick_decimals(99.653, 106.715, 3)
+    (1, 0, 1)
+    """
+    ticks = np.linspace(lo, hi, n)
+    for places in range(3):
+        if np.allclose(np.round(ticks, places), ticks, rtol=0, atol=1e-9 * max(1.0, hi - lo)):
+            return places
+    return decimals((hi - lo) / max(1, n - 1))
+
+
 def axis_title(name: str, offset: float) -> str:
     """``name``, or ``name − offset`` when the axis shows coordinates less an offset.
 
@@ -76,20 +93,23 @@ def axes_and_camera(plotter: pyvista.Plotter, scene: Scene, warp: float | None) 
         box[2] = box[2] / warp
     offsets = [axis_offset(lo, hi) for lo, hi in box]
     shown = box - np.array(offsets)[:, None]
-    spans = shown[:, 1] - shown[:, 0]
-    spans = spans[: 2 if flat else 3]
+    counts = (5, 5, 3)
+    drawn = 2 if flat else 3
+    places = max(
+        tick_decimals(lo, hi, k) for (lo, hi), k in zip(shown[:drawn], counts[:drawn], strict=True)
+    )
     plotter.show_bounds(
         axes_ranges=shown.ravel().tolist(),
         xtitle=axis_title("x", offsets[0]),
         ytitle=axis_title("y", offsets[1]),
         ztitle=axis_title("z" if warp is None else scene.label, offsets[2]),
         show_zaxis=not flat,
-        n_xlabels=5,
-        n_ylabels=5,
-        n_zlabels=3,
+        n_xlabels=counts[0],
+        n_ylabels=counts[1],
+        n_zlabels=counts[2],
         location="outer",
         font_size=font(plotter, 1 / 60),
-        fmt=f"%.{decimals(float(spans[spans > 0].min(initial=np.inf)))}f",
+        fmt=f"%.{places}f",
     )
     if flat:
         plotter.enable_parallel_projection()

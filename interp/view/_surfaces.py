@@ -11,7 +11,7 @@ from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import as_ring
 from interp.view._difference import surface_difference, volumes_text
-from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, decimals, font
+from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, font, tick_decimals
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
 from interp.view._scenes import Scene, scene_of
@@ -472,7 +472,7 @@ def _draw(
             title=scene.label,
             mapper=_first_mapper(plotter),
             n_labels=5,
-            fmt=f"%.{decimals(colour['clim'][1] - colour['clim'][0])}f",
+            fmt=f"%.{tick_decimals(*colour['clim'], 5)}f",
             vertical=True,
             position_x=0.82,
             position_y=0.2,
