@@ -242,6 +242,8 @@ def corner_bounds(values: Sequence[float]) -> np.ndarray:
     --------
     >>> corner_bounds([512000, 4180000, 512600, 4180400]).tolist()
     [[512000.0, 4180000.0], [512600.0, 4180400.0]]
+    >>> corner_bounds([0, 0, -30, 10, 20, 0]).tolist()
+    [[0.0, 0.0, -30.0], [10.0, 20.0, 0.0]]
     """
     flat = as_floats(values, "bounds must be numbers").ravel()
     if flat.size not in (4, 6):
