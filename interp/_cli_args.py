@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import re
 import sys
 import time
 from collections.abc import Sequence
@@ -21,9 +22,18 @@ from interp._format import decimals
 from interp.io import is_las_file
 from interp.source import load
 
+#: a value such as ``-512000.5,-20,3e5``: a number list taken as an option's value, not an option
+NUMBER_LIST = re.compile(r"^-\.?\d[-+.,\deE]*$")
+
 
 class Parser(argparse.ArgumentParser):
-    """An argument parser whose usage errors are one line ``interp: error: ...``, exit 2."""
+    """An argument parser whose usage errors are one line ``interp: error: ...``, exit 2, and
+    that takes comma-separated numbers starting with ``-`` as values, so ``--bounds
+    -10,-5,10,5`` needs no ``=`` (none of our options looks like a number)."""
+
+    def __init__(self, *args, **kwargs) -> None:
+        super().__init__(*args, **kwargs)
+        self._negative_number_matcher = NUMBER_LIST
 
     def error(self, message: str) -> NoReturn:
         where = self.prog.removeprefix("interp").strip()
@@ -109,6 +119,16 @@ def positive(text: str) -> float:
     if len(v) != 1 or not 0 < v[0] < np.inf:
         raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
     return v[0]
+
+
+def spacings(text: str) -> list[float]:
+    """Parse one positive number or one per axis (an argparse type)."""
+    v = numbers(text)
+    if not 1 <= len(v) <= 3 or not all(0 < s < np.inf for s in v):
+        raise argparse.ArgumentTypeError(
+            f"expected a positive spacing, or one per axis (e.g. 0.5,1.0), got {text!r}"
+        )
+    return v
 
 
 def source_options(p: argparse.ArgumentParser) -> None:

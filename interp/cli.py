@@ -32,13 +32,16 @@ from interp._cli_args import (
     positive,
     region_of,
     source_options,
+    spacings,
     stage,
 )
 from interp._cli_run import run
 from interp._format import decimals, number, table, unit_power
+from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs, read_las_points
-from interp.source import choose_fields, describe, sample_file
+from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
 
+MEASURES = ("length", "area", "volume")
 SIGN = "difference = upper minus lower; above and below are positive amounts"
 
 CAUTION = (
@@ -49,6 +52,9 @@ CAUTION = (
 
 
 def cmd_info(args: argparse.Namespace) -> None:
+    if is_grid_file(args.source):
+        info_grid(args)
+        return
     fields = open_source(args)
     info = describe(fields)
     info["units"] = args.units
@@ -63,8 +69,8 @@ def cmd_info(args: argparse.Namespace) -> None:
             f"{number(lo, k)}..{number(hi, k)}" for lo, hi in zip(*info["bounds"], strict=True)
         )
         + (f" {args.units}" if args.units else ""),
-        f"{('length', 'area', 'volume')[dim - 1]}: {number(info['measure'], k)} "
-        f"{unit_power(args.units, dim)}".rstrip(),
+        f"{info['measure_name']}: {number(info['measure'], k)} "
+        f"{unit_power(args.units, MEASURES.index(info['measure_name']) + 1)}".rstrip(),
         f"cell quality (radius ratio, 1 = regular): min {q['radius_ratio_min']:.3g}, "
         f"median {q['radius_ratio_median']:.3g}",
     ]
@@ -93,10 +99,34 @@ def unit_suffix(units: str | None, power: int = 1) -> str:
     return f" {unit_power(units, power)}" if units else ""
 
 
+def info_grid(args: argparse.Namespace) -> None:
+    info = describe_grid(args.source)
+    lines = [
+        f"{info['dimension']}D grid of {' x '.join(map(str, info['shape']))} nodes, spacing "
+        + ", ".join(f"{s:.12g}" for s in info["spacing"]),
+        "bounds: "
+        + ", ".join(
+            f"{a} {lo:.12g}..{hi:.12g}" for a, lo, hi in zip("xyz", *info["bounds"], strict=False)
+        ),
+    ]
+    for name, f in info["fields"].items():
+        lines.append(
+            f"field {name}: {f['components']} component(s), range "
+            f"{number(f['min'], 6)}..{number(f['max'], 6)}, {f['nan']:,} node(s) without data"
+        )
+    emit(args, info, lines)
+
+
 def cmd_grid(args: argparse.Namespace) -> None:
     fields = open_source(args)
     stage(args, "evaluating the grid")
-    grid = interp.to_grid(fields, spacing=args.spacing, bounds=args.bounds)
+    bounds = None if args.bounds is None else corner_bounds(args.bounds)
+    grid = interp.to_grid(fields, spacing=args.spacing, bounds=bounds)
+    if not any((~np.isnan(v)).any() for v in grid.fields.values()):
+        raise interp.InterpError(
+            f"no grid node falls inside the data, so {args.output} was not written; give "
+            "--bounds that overlap the data (see `interp info`)"
+        )
     crs = args.crs or (las_crs(args.source) if is_las_file(args.source) else None)
     if crs is not None:
         grid = replace(grid, crs=crs)
@@ -175,6 +205,11 @@ def cmd_profile(args: argparse.Namespace) -> None:
     prof = interp.profile(
         open_source(args), [line[i : i + g] for i in range(0, len(line), g)], step=args.step
     )
+    if all(np.isnan(v).all() for v in prof.fields.values()):
+        raise interp.InterpError(
+            f"the --line lies entirely outside the data, so {args.output} was not written; "
+            "check its coordinates against the data bounds (see `interp info`)"
+        )
     out = prof.save(args.output)
     if not args.quiet:
         k = decimals(np.asarray(line))
@@ -349,6 +384,7 @@ def cmd_view(args: argparse.Namespace) -> None:
         edges=args.edges,
         points=args.points or None,
         screenshot=args.screenshot,
+        title=args.title,
     )
     if out is not None and not args.quiet:
         print(f"wrote {out}")
@@ -408,8 +444,19 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("grid", "evaluate on a regular grid (.tif, .nc, .npz, .csv, .vti, .zarr)", cmd_grid)
     p.add_argument("source", type=Path)
-    p.add_argument("--spacing", type=positive, required=True, help="grid node spacing")
-    p.add_argument("--bounds", type=numbers, help="xmin,xmax,ymin,ymax[,zmin,zmax]")
+    p.add_argument(
+        "--spacing",
+        type=spacings,
+        required=True,
+        help="grid node spacing: one number, or one per axis (0.5,1.0)",
+    )
+    p.add_argument(
+        "--bounds",
+        type=numbers,
+        help="minx,miny,maxx,maxy (3D: minx,miny,minz,maxx,maxy,maxz): the lower corner, then "
+        "the upper one, as in GIS and GeoJSON (default the data's bounds); earlier versions "
+        "took xmin,xmax,ymin,ymax",
+    )
     p.add_argument(
         "-o",
         "--output",
@@ -496,7 +543,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = add("view", "show a surface or volume, or write a PNG", cmd_view)
     p.add_argument("source", type=Path)
     p.add_argument("--warp", type=float, help="vertical exaggeration of the surface")
-    p.add_argument("--contours", type=int, help="number of contour levels")
+    p.add_argument("--contours", type=int, help="number of contour levels (1 to 100), labelled")
+    p.add_argument("--title", help="title above the picture (default the field and its units)")
     p.add_argument("--edges", action="store_true", help="draw cell edges")
     p.add_argument("--points", action="store_true", help="draw the data points")
     p.add_argument("--screenshot", type=Path, help="write a PNG instead of opening a window")

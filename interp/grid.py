@@ -9,6 +9,7 @@ outside the mesh.
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -264,6 +265,27 @@ def evaluate_fields(
     return out
 
 
+def box_of(meshes: Sequence[object]) -> np.ndarray:
+    """The (2, g) box around the bounds of meshes."""
+    return np.array(
+        [
+            np.min([m.bounds[0] for m in meshes], axis=0),
+            np.max([m.bounds[1] for m in meshes], axis=0),
+        ]
+    )
+
+
+def box_text(box: np.ndarray) -> str:
+    """A (2, g) box as ``x lo..hi, y lo..hi``, at full precision.
+
+    Examples
+    --------
+    >>> box_text(np.array([[512000.0, 4180000.0], [512600.5, 4180400.0]]))
+    'x 512000..512600.5, y 4180000..4180400'
+    """
+    return ", ".join(f"{'xyz'[a]} {lo:.12g}..{hi:.12g}" for a, (lo, hi) in enumerate(box.T))
+
+
 def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
     """Bounds as a (2, g) array from a flat (xmin, xmax, ymin, ymax[, zmin, zmax]), or
     from a (2, g) array of minima and maxima (as :attr:`interp.Mesh.bounds`).
@@ -294,6 +316,26 @@ def grid_bounds(mesh_bounds: np.ndarray, bounds: object | None) -> np.ndarray:
     if (out[1] < out[0]).any():
         raise InterpError(f"bounds have a maximum below its minimum: {b.tolist()}")
     return out
+
+
+def corner_bounds(values: Sequence[float]) -> np.ndarray:
+    """Bounds as a (2, g) array from a flat ``(minx, miny[, minz], maxx, maxy[, maxz])``:
+    the lower corner, then the upper one (the order of GIS tools and GeoJSON's ``bbox``).
+
+    Examples
+    --------
+    >>> corner_bounds([512000, 4180000, 512600, 4180400]).tolist()
+    [[512000.0, 4180000.0], [512600.0, 4180400.0]]
+    >>> corner_bounds([0, 0, -30, 10, 20, 0]).tolist()
+    [[0.0, 0.0, -30.0], [10.0, 20.0, 0.0]]
+    """
+    flat = as_floats(values, "bounds must be numbers").ravel()
+    if flat.size not in (4, 6):
+        raise InterpError(
+            "bounds in the order minx,miny,maxx,maxy (2D) or minx,miny,minz,maxx,maxy,maxz "
+            f"(3D) need 4 or 6 numbers; got {flat.size}: {flat.tolist()}"
+        )
+    return flat.reshape(2, -1)
 
 
 def grid_spacing(spacing: object, g: int) -> np.ndarray:
@@ -342,7 +384,9 @@ def to_grid(
     Returns
     -------
     Grid
-        NaN at nodes outside the mesh.
+        NaN at nodes outside the mesh.  A warning says when an axis has a
+        single node (a spacing wider than the bounds) and when no node at all
+        falls inside the mesh (bounds away from the data).
 
     Examples
     --------
@@ -355,18 +399,24 @@ def to_grid(
     """
     named = as_fields(fields)
     meshes = [f.mesh for f in named.values()]
-    box = np.array(
-        [
-            np.min([m.bounds[0] for m in meshes], axis=0),
-            np.max([m.bounds[1] for m in meshes], axis=0),
-        ]
-    )
-    b, s = grid_bounds(box, bounds), grid_spacing(spacing, meshes[0].gdim)
-    shape = grid_shape(b, s)
+    box = grid_bounds(box_of(meshes), bounds)
+    step = grid_spacing(spacing, meshes[0].gdim)
+    shape = grid_shape(box, step)
     components = sum(int(np.prod(f.values.shape[1:])) for f in named.values())
     # a lazy grid still holds its axes in memory: bound each axis alike
     check_size(shape if chunks is None else (max(shape),), components)
-    axes = grid_axes(b, s)
+    axes = grid_axes(box, step)
+    single = [
+        f"{'xyz'[a]} (spacing {step[a]:g} over a width of {np.ptp(box[:, a]):g})"
+        for a, ax in enumerate(axes)
+        if len(ax) == 1
+    ]
+    if single:
+        warnings.warn(
+            f"the grid has a single node along {', '.join(single)}; use a spacing smaller "
+            "than the width of the bounds",
+            stacklevel=2,
+        )
     units = {n: f.units for n, f in named.items() if f.units}
     if chunks is not None:
         return Grid(axes, parallel.grid(named, axes, chunks), units)
@@ -381,4 +431,11 @@ def to_grid(
         for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
             out[name][start : start + len(v)] = v
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
+    if all(np.isnan(v).all() for v in out.values()):
+        warnings.warn(
+            f"no node of the {' x '.join(map(str, shape))} grid falls inside the mesh: every "
+            f"value is NaN; the data span {box_text(box_of(meshes))} and the grid "
+            f"{box_text(np.array([[a[0] for a in axes], [a[-1] for a in axes]]))}",
+            stacklevel=2,
+        )
     return Grid(axes, fields_out, units)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -12,7 +13,7 @@ from interp._arrays import as_points
 from interp._geometry import polyline_lengths
 from interp.errors import InterpError
 from interp.field import Field
-from interp.grid import as_fields, evaluate_fields, size_text
+from interp.grid import as_fields, box_of, box_text, evaluate_fields, size_text
 from interp.io import field_columns, write_table
 from interp.mesh import Mesh
 
@@ -85,6 +86,8 @@ def profile(
     step : float
         Sampling interval along each segment; every vertex is sampled too.
 
+    A warning says when the whole line lies outside the data (every value NaN).
+
     Examples
     --------
     >>> import numpy as np
@@ -126,7 +129,14 @@ def profile(
     points = np.vstack(
         [vertices[which] + seg[which] * (local / length[which])[:, None], vertices[-1:]]
     )
-    return Profile(distance, points, evaluate_fields(named, lambda ix: ix.locate(points)), vertices)
+    values = evaluate_fields(named, lambda ix: ix.locate(points))
+    if all(np.isnan(v).all() for v in values.values()):
+        warnings.warn(
+            f"the profile line lies entirely outside the data: all {len(points):,} samples are "
+            f"NaN; the data span {box_text(box_of([f.mesh for f in named.values()]))}",
+            stacklevel=2,
+        )
+    return Profile(distance, points, values, vertices)
 
 
 def transfer(field: Field, target: Mesh, *, conservative: bool = False) -> Field:

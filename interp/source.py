@@ -20,6 +20,7 @@ from interp._fit import fit
 from interp.errors import InterpError
 from interp.field import Field
 from interp.io import (
+    GRID_READERS,
     TableWriter,
     component_names,
     field_columns,
@@ -28,6 +29,7 @@ from interp.io import (
     iter_point_chunks,
     point_reader,
     read,
+    read_grid,
 )
 
 
@@ -142,8 +144,16 @@ def choose_fields(values: dict[str, np.ndarray], field: str | None, path: str | 
     return {field: values[field]}
 
 
+#: what the measure of a mesh's cells is, by their topological dimension.
+MEASURE_NAMES = {1: "length", 2: "area", 3: "volume"}
+
+
 def describe(fields: dict[str, Field]) -> dict:
     """A summary of a source: dimension, counts, bounds, field ranges, cell quality.
+
+    ``measure`` is the total length, area or volume of the cells, named by
+    ``measure_name`` after the cells' own dimension: lines in 2D or 3D have a
+    length, triangles in 3D an area, whatever the dimension of the points.
 
     Examples
     --------
@@ -151,8 +161,8 @@ def describe(fields: dict[str, Field]) -> dict:
     >>> from interp import Field, Mesh
     >>> m = Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]])
     >>> info = describe({"z": Field(m, [1.0, 2.0, 4.0])})
-    >>> info["cells"], info["measure"], info["fields"]["z"]["max"]
-    (1, 0.5, 4.0)
+    >>> info["cells"], info["measure"], info["measure_name"], info["fields"]["z"]["max"]
+    (1, 0.5, 'area', 4.0)
     """
     mesh = next(iter(fields.values())).mesh
     quality = mesh.quality()
@@ -163,6 +173,7 @@ def describe(fields: dict[str, Field]) -> dict:
         "cells": mesh.n_cells,
         "bounds": mesh.bounds.tolist(),
         "measure": float(mesh.measure().sum()),
+        "measure_name": MEASURE_NAMES[mesh.dim],
         "quality": {
             "radius_ratio_min": float(quality.min()),
             "radius_ratio_median": float(np.median(quality)),
@@ -172,14 +183,67 @@ def describe(fields: dict[str, Field]) -> dict:
     if mesh.dim == 2:
         out["quality"]["smallest_angle_deg"] = float(mesh.angles().min())
     for name, f in fields.items():
-        v = f.values
-        finite = v[np.isfinite(v).all(axis=1)] if v.ndim == 2 else v[np.isfinite(v)]
-        out["fields"][name] = {
-            "components": f.n_components,
-            "min": float(finite.min()) if finite.size else None,
-            "max": float(finite.max()) if finite.size else None,
-            "nan": int(np.isnan(v).any(axis=1).sum() if v.ndim == 2 else np.isnan(v).sum()),
-        }
+        out["fields"][name] = value_summary(f.values, f.n_components)
+    return out
+
+
+def value_summary(values: object, components: int) -> dict:
+    """Components, finite range and count of places without data (NaN) of an array
+    whose last axis holds the components when there are several.
+
+    Examples
+    --------
+    >>> value_summary(np.array([[1.0, 2.0], [np.nan, 5.0]]), 2)
+    {'components': 2, 'min': 1.0, 'max': 2.0, 'nan': 1}
+    """
+    v = np.asarray(values, dtype=np.float64).reshape(-1, components)
+    missing = np.isnan(v).any(axis=1)
+    finite = v[np.isfinite(v).all(axis=1)]
+    return {
+        "components": components,
+        "min": float(finite.min()) if finite.size else None,
+        "max": float(finite.max()) if finite.size else None,
+        "nan": int(missing.sum()),
+    }
+
+
+def is_grid_file(path: str | Path) -> bool:
+    """True when ``path`` has the suffix of a grid format interp reads back
+    (:data:`interp.io.GRID_READERS`: ``.npz``, ``.vti``, ``.zarr``).
+
+    Examples
+    --------
+    >>> is_grid_file("yard.vti"), is_grid_file("yard.csv")
+    (True, False)
+    """
+    return Path(path).suffix.lower() in GRID_READERS
+
+
+def describe_grid(path: str | Path) -> dict:
+    """A summary of a grid file: shape, spacing, bounds and the range of each field.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(3.0), np.arange(2.0) * 0.5), {"z": np.arange(6.0).reshape(3, 2)})
+    >>> info = describe_grid(g.save(pathlib.Path(tempfile.mkdtemp()) / "g.vti"))
+    >>> info["shape"], info["spacing"], info["bounds"], info["fields"]["z"]["max"]
+    ([3, 2], [1.0, 0.5], [[0.0, 0.0], [2.0, 0.5]], 5.0)
+    """
+    axes, fields, units = read_grid(path)
+    out = {
+        "dimension": len(axes),
+        "shape": [len(a) for a in axes],
+        "spacing": [float(a[1] - a[0]) if len(a) > 1 else 0.0 for a in axes],
+        "bounds": [[float(a[0]) for a in axes], [float(a[-1]) for a in axes]],
+        "fields": {},
+    }
+    for name, v in fields.items():
+        comps = 1 if v.ndim == len(axes) else int(v.shape[-1])
+        out["fields"][name] = value_summary(v, comps) | (
+            {"units": units[name]} if name in units else {}
+        )
     return out
 
 

@@ -185,3 +185,154 @@ def test_boundary_keeps_the_holes_of_the_polygon_file(survey):
     )
     expected = region.intersection(shapely.MultiPoint(xy).convex_hull).area
     assert json.loads(r.stdout)["measure"] == pytest.approx(expected, rel=1e-9)
+
+
+def test_grid_bounds_take_gis_order_negative_numbers_and_a_spacing_per_axis(survey):
+    d, xy, z = survey
+    # minx,miny,maxx,maxy as in GeoJSON's bbox (RFC 7946, section 5); no "=" before the minus
+    r = run("grid", d / "s.csv", "--bounds", "-10,-5,20,25", "--spacing", "2,5", "-o", d / "b.npz")
+    assert r.returncode == 0, r.stderr
+    g = np.load(d / "b.npz")
+    # by hand: -10, -8, ..., 20 is 16 nodes; -5, 0, ..., 25 is 7
+    assert g["x"].tolist() == [-10.0 + 2 * i for i in range(16)]
+    assert g["y"].tolist() == [-5.0 + 5 * j for j in range(7)]
+    xx, yy = np.meshgrid(g["x"], g["y"], indexing="ij")
+    # reference: scipy.interpolate.griddata(method="linear") at the same nodes
+    ref = griddata(xy, z, (xx, yy), method="linear")
+    np.testing.assert_allclose(g["z"], ref, atol=1e-12, equal_nan=True)
+    r = run("grid", d / "s.csv", "--bounds", "0,0,10,10,5", "--spacing", "1", "-o", d / "c.npz")
+    assert r.returncode == 1 and "minx,miny,maxx,maxy" in r.stderr and "got 5" in r.stderr
+    assert "minx,miny,maxx,maxy" in run("grid", "--help").stdout
+
+
+def test_grid_with_a_single_node_or_no_node_inside_says_so(survey):
+    d, _, _ = survey
+    r = run("grid", d / "s.csv", "--bounds", "25,15,30,20", "--spacing", "100", "-o", d / "1.npz")
+    # a spacing of 100 over bounds 5 wide leaves one node per axis, at (25, 15)
+    assert r.returncode == 0 and "1 x 1 grid" in r.stdout
+    assert "single node along x (spacing 100 over a width of 5), y" in r.stderr
+    assert np.load(d / "1.npz")["x"].tolist() == [25.0]
+    r = run(
+        "grid", d / "s.csv", "--bounds", "200,200,210,210", "--spacing", "1", "-o", d / "no.npz"
+    )
+    assert r.returncode == 1 and "no grid node falls inside the data" in r.stderr
+    assert "every value is NaN" in r.stderr and not (d / "no.npz").exists()
+
+
+def test_profile_line_with_negative_coordinates_and_outside_the_data(survey):
+    d, xy, z = survey
+    r = run("profile", d / "s.csv", "--line", "-5,15,45,15", "--step", "5", "-o", d / "p.csv")
+    assert r.returncode == 0, r.stderr
+    rows = np.genfromtxt(d / "p.csv", delimiter=",", skip_header=1)
+    assert rows[:, 1].tolist() == [-5.0 + 5 * i for i in range(11)]
+    # reference: scipy.interpolate.griddata(method="linear") at the samples
+    ref = griddata(xy, z, rows[:, 1:3], method="linear")
+    np.testing.assert_allclose(rows[:, 3], ref, atol=1e-12, equal_nan=True)
+    r = run("profile", d / "s.csv", "--line", "-90,-80,-60,-80", "--step", "1", "-o", d / "far.csv")
+    assert r.returncode == 1 and "entirely outside the data" in r.stderr
+    assert not (d / "far.csv").exists()
+
+
+@pytest.mark.parametrize("suffix", [".npz", ".vti"])
+def test_info_reads_the_grids_interp_writes(survey, suffix):
+    d, _, _ = survey
+    out = d / f"info{suffix}"
+    r = run("grid", d / "s.csv", "--spacing", "0.5,1.5", "--bounds", "2,3,40,27", "-o", out)
+    assert r.returncode == 0, r.stderr
+    run("grid", d / "s.csv", "--spacing", "0.5,1.5", "--bounds", "2,3,40,27", "-o", d / "ref.npz")
+    ref = np.load(d / "ref.npz")
+    r = run("info", out, "--json")
+    assert r.returncode == 0, r.stderr
+    info = json.loads(r.stdout)
+    # by hand: 2..40 by 0.5 is 77 nodes, 3..27 by 1.5 is 17
+    assert info["shape"] == [77, 17] and info["spacing"] == [0.5, 1.5]
+    assert info["bounds"] == [[2.0, 3.0], [40.0, 27.0]]
+    z = ref["z"]
+    assert info["fields"]["z"]["min"] == np.nanmin(z) and info["fields"]["z"]["max"] == np.nanmax(z)
+    assert info["fields"]["z"]["nan"] == int(np.isnan(z).sum())
+    text = run("info", out).stdout
+    assert "2D grid of 77 x 17 nodes, spacing 0.5, 1.5" in text and "x 2..40, y 3..27" in text
+
+
+def test_mixed_and_embedded_meshes_name_what_they_measure(tmp_path):
+    import meshio
+
+    # a unit cube of 6 tetrahedra (Kuhn's subdivision) with 2 boundary triangles alongside
+    cube = np.array([[i & 1, i >> 1 & 1, i >> 2 & 1] for i in range(8)], dtype=float)
+    tets = np.array(
+        [[0, 1, 3, 7], [0, 1, 5, 7], [0, 2, 3, 7], [0, 2, 6, 7], [0, 4, 5, 7], [0, 4, 6, 7]]
+    )
+    meshio.write(
+        tmp_path / "mixed.vtu",
+        meshio.Mesh(
+            cube,
+            [("tetra", tets), ("triangle", np.array([[0, 1, 3], [0, 3, 2]]))],
+            point_data={"t": cube[:, 0]},
+        ),
+    )
+    r = run("info", tmp_path / "mixed.vtu")
+    assert r.returncode == 0, r.stderr
+    assert "dropped 2 triangle cells" in r.stderr and "6 tetra cells" in r.stderr
+    assert "volume: 1\n" in r.stdout
+    # a 3-4-5 polyline in the plane (length 5 + 5) and a right triangle of legs 3 and 4 set in
+    # space (area 6): measured as a length and an area, never as a volume
+    line = np.array([[0.0, 0, 0], [3, 4, 0], [6, 0, 0]])
+    meshio.write(
+        tmp_path / "line.vtu",
+        meshio.Mesh(line, [("line", np.array([[0, 1], [1, 2]]))], point_data={"t": line[:, 0]}),
+    )
+    roof = np.array([[0.0, 0, 1], [3, 0, 1], [0, 3.2, 3.4]])
+    meshio.write(
+        tmp_path / "roof.vtu",
+        meshio.Mesh(roof, [("triangle", np.array([[0, 1, 2]]))], point_data={"t": roof[:, 0]}),
+    )
+    r = run("info", tmp_path / "line.vtu", "--json")
+    assert r.returncode == 0, r.stderr
+    info = json.loads(r.stdout)
+    assert info["measure_name"] == "length" and info["measure"] == pytest.approx(10.0, rel=1e-14)
+    r = run("info", tmp_path / "roof.vtu")
+    assert r.returncode == 0, r.stderr
+    # printed to the coordinates' resolution (one decimal here: 3.2, 3.4)
+    assert "area: 6.0\n" in r.stdout and "volume" not in r.stdout
+
+
+def test_view_caps_the_number_of_contours(survey):
+    d, _, _ = survey
+    r = run("view", d / "s.csv", "--contours", "5000", "--screenshot", d / "many.png")
+    assert r.returncode == 1 and "from 1 to 100" in r.stderr and not (d / "many.png").exists()
+
+
+def test_outputs_over_a_gigabyte_are_announced_with_their_size(survey, monkeypatch, capsys):
+    import interp.io._grids as grids
+    from interp.cli import main
+
+    d, _, _ = survey
+    # the note's threshold lowered so that a small grid crosses it: 61 x 41 nodes, one field,
+    # 8 bytes a value in .npz = 20,008 bytes; 16 a number and 3 numbers a row in .csv
+    monkeypatch.setattr(grids, "LARGE_OUTPUT_BYTES", 10_000)
+    assert (
+        main(
+            [
+                "grid",
+                str(d / "s.csv"),
+                "--bounds",
+                "0,0,60,40",
+                "--spacing",
+                "1",
+                "-o",
+                str(d / "big.npz"),
+            ]
+        )
+        == 0
+    )
+    err = capsys.readouterr().err
+    assert f"writing {d / 'big.npz'}: about 2e-05 GB (61 x 41 nodes)" in err
+    g = interp_grid(61, 41)
+    assert grids.estimated_bytes(g, ".npz") == 61 * 41 * 8
+    assert grids.estimated_bytes(g, ".csv") == 61 * 41 * 3 * 16
+
+
+def interp_grid(nx, ny):
+    from interp import Grid
+
+    return Grid((np.arange(nx, dtype=float), np.arange(ny, dtype=float)), {"z": np.zeros((nx, ny))})

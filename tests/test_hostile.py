@@ -209,7 +209,7 @@ CASES = [
     ),
     (
         "1e13-node axis",
-        ["grid", "%s.csv", "--spacing", "1", "--bounds=0,1e13,0,1", "-o", "g.npz"],
+        ["grid", "%s.csv", "--spacing", "1", "--bounds=0,0,1e13,1", "-o", "g.npz"],
         1,
         ["nodes", "TiB of memory"],
     ),
@@ -283,7 +283,7 @@ CASES = [
         "short bounds",
         ["grid", "%s.csv", "--spacing", "1", "--bounds", "0,1", "-o", "g.npz"],
         1,
-        ["bounds must be 4 finite numbers"],
+        ["minx,miny,maxx,maxy", "need 4 or 6 numbers; got 2"],
     ),
 ]
 # the same refusal when the optional dask extra is missing

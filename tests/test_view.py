@@ -422,3 +422,96 @@ def test_headless_detection_follows_the_display_variables(monkeypatch):
     assert _render.no_display() == sys.platform.startswith("linux")
     monkeypatch.setenv("WAYLAND_DISPLAY", "wayland-0")
     assert not _render.no_display()
+
+
+def relative_luminance(rgb) -> float:
+    # WCAG 2.1, "relative luminance": sRGB channels linearised, weighted 0.2126/0.7152/0.0722
+    c = np.asarray(rgb, dtype=np.float64)[:3]
+    lin = np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+    return float(lin @ [0.2126, 0.7152, 0.0722])
+
+
+def contrast(a, b) -> float:
+    # WCAG 2.1, "contrast ratio": (L1 + 0.05) / (L2 + 0.05), lighter over darker
+    la, lb = sorted([relative_luminance(a), relative_luminance(b)], reverse=True)
+    return (la + 0.05) / (lb + 0.05)
+
+
+def survey_field() -> interp.Field:
+    """A unit-square ramp stretched to 600 x 400 m at survey offsets (512000, 4180000)."""
+    mesh = square_mesh(4)
+    xy = mesh.points * [600.0, 400.0] + [512000.0, 4180000.0]
+    return interp.Field(interp.Mesh(xy, mesh.cells), 100 + mesh.points[:, 0], name="z", units="m")
+
+
+def test_survey_coordinates_are_drawn_local_with_the_offset_on_the_axis():
+    p = plot(survey_field(), window_size=SIZE)
+    axes = p.renderer.cube_axes_actor
+    assert axes.GetXTitle() == "x - 512000" and axes.GetYTitle() == "y - 4180000"
+    # the ticks run over the local range 0..600 and 0..400, whole metres apart
+    assert axes.x_axis_range == pytest.approx((0.0, 600.0))
+    assert axes.y_axis_range == pytest.approx((0.0, 400.0))
+    assert axes.x_label_format == "%.0f"
+    # the data stay where they are; only the numbers on the axes are local
+    assert p.actors["surface"].mapper.dataset.bounds[0] == pytest.approx(512000.0)
+    assert title_of(p) == "z [m]" and p.scalar_bar.GetTitle() == "z [m]"
+    assert image_of(p).std() > 20
+    p = plot(ramp(), window_size=SIZE)
+    assert p.renderer.cube_axes_actor.GetXTitle() == "x"
+    p.close()
+
+
+def test_contours_are_labelled_and_readable_on_both_ends_of_the_colour_map(tmp_path):
+    f = ramp(4)
+    p = plot(f, contours=[0.25, 0.5, 0.75], window_size=SIZE)
+    labels = pyvista_labels(p)
+    # f = x: each level's label sits on the line x = level, and reads the level
+    assert labels["text"] == ["0.25", "0.50", "0.75"]
+    assert labels["points"][:, 0] == pytest.approx([0.25, 0.5, 0.75], abs=1e-9)
+    light = p.actors["contours"].prop.color
+    dark = p.actors["contour-halo"].prop.color
+    assert p.actors["contour-halo"].prop.line_width > p.actors["contours"].prop.line_width
+    ends = matplotlib.colormaps[view.CMAP]([0.0, 1.0])
+    # WCAG 2.1 asks 3:1 for graphical objects: the light line on the darkest colour, the
+    # dark halo on the lightest
+    assert contrast(light.float_rgb, ends[0]) > 3 and contrast(dark.float_rgb, ends[1]) > 3
+    # the pixels the lines change (labels hidden) hold both the light line and the dark halo
+    p.actors["contour-labels"].SetVisibility(False)
+    changed = image_of(p) / 255.0
+    plain = image_of(plot(f, window_size=SIZE)) / 255.0
+    moved = np.abs(changed - plain).max(axis=2) > 0.1
+    lum = changed[moved] @ [0.2126, 0.7152, 0.0722]
+    assert (lum > 0.9).sum() > 50 and (lum < 0.15).sum() > 50
+    with pytest.raises(interp.InterpError, match="from 1 to 100"):
+        plot(f, contours=101, window_size=SIZE)
+    with pytest.raises(interp.InterpError, match="at most 100 levels"):
+        plot(f, contours=list(np.linspace(0.1, 0.9, 101)), window_size=SIZE)
+
+
+def pyvista_labels(plotter) -> dict:
+    import pyvista as pv
+
+    actor = plotter.actors["contour-labels"]
+    data = pv.wrap(actor.GetMapper().GetInputAlgorithm().GetInput())
+    return {"text": [str(t) for t in data["labels"]], "points": np.asarray(data.points)}
+
+
+def test_point_markers_leave_the_surface_visible():
+    f = ramp(4)
+    p = plot(f, points=True, window_size=SIZE)
+    prop = p.actors["points"].prop
+    assert prop.opacity < 1 and prop.point_size <= 6
+    with_points = image_of(p)
+    without = image_of(plot(f, window_size=SIZE))
+    # the surface's colour still shows: the markers change the picture by little (0.27 of
+    # 255 on average when measured; opaque black markers of size 7 changed it by 0.97)
+    assert np.abs(with_points - without).mean() < 0.5
+
+
+def test_residual_map_shows_survey_coordinates_with_their_offset(rng):
+    pts = rng.uniform(0, 100, (30, 2)) + [512000.0, 4180000.0]
+    fig = plot_residuals(pts, rng.normal(0.0, 0.1, 30))
+    ax = fig.axes[0]
+    assert ax.get_xlabel() == "x - 512000" and ax.get_ylabel() == "y - 4180000"
+    offsets = np.asarray(ax.collections[0].get_offsets())
+    assert offsets == pytest.approx(pts - [512000.0, 4180000.0])

@@ -11,8 +11,10 @@ block and moved into place.
 
 from __future__ import annotations
 
+import re
 import shutil
 import uuid
+import warnings
 from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any, Protocol
@@ -29,6 +31,12 @@ from interp.io._tables import write_table
 ZARR_MARK = "interp.grid"
 #: version of the Zarr grid layout described in :func:`save_zarr`.
 ZARR_VERSION = 1
+
+#: an output estimated above this many bytes gets a warning with its size before it is written.
+LARGE_OUTPUT_BYTES = 1_000_000_000
+#: bytes per stored number: 8 for the binary formats (before compression), about 16 in a
+#: text table (up to 17 significant digits and a delimiter).
+BYTES_PER_VALUE = {".csv": 16}
 
 #: what a grid reader returns: axes, fields and units.
 GridParts = tuple[tuple[np.ndarray, ...], dict[str, Any], dict[str, str]]
@@ -77,8 +85,28 @@ def field_columns(fields: Mapping[str, np.ndarray], n: int) -> tuple[list[str], 
     return names, np.hstack(flat)
 
 
+def estimated_bytes(grid: GridLike, suffix: str) -> int:
+    """The size a grid takes in the format of ``suffix``, before compression.
+
+    Examples
+    --------
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(1000.0), np.arange(500.0)), {"z": np.zeros((1000, 500))})
+    >>> estimated_bytes(g, ".npz"), estimated_bytes(g, ".csv")
+    (4000000, 24000000)
+    """
+    nodes = int(np.prod(grid.shape))
+    values = sum(int(np.prod(v.shape)) for v in grid.fields.values())
+    if suffix == ".csv":
+        values += nodes * len(grid.axes)
+    return values * BYTES_PER_VALUE.get(suffix, 8)
+
+
 def save_grid(grid: GridLike, path: str | Path) -> Path:
     """Write a grid in the format its suffix names (see :data:`GRID_WRITERS`).
+
+    An output estimated over :data:`LARGE_OUTPUT_BYTES` (1 GB) gets a warning
+    with its size before it is written.
 
     Examples
     --------
@@ -96,6 +124,13 @@ def save_grid(grid: GridLike, path: str | Path) -> Path:
         raise InterpError(f"cannot save a grid as {path.name!r}: use {', '.join(GRID_WRITERS)}")
     if suffix != ".csv":
         _check_names(grid.fields, path)
+    size = estimated_bytes(grid, path.suffix.lower())
+    if size > LARGE_OUTPUT_BYTES:
+        warnings.warn(
+            f"writing {path}: about {size / 1e9:.3g} GB ({' x '.join(map(str, grid.shape))} "
+            "nodes); use a larger spacing or smaller bounds for a smaller file",
+            stacklevel=2,
+        )
     return writer(grid, path)
 
 
@@ -118,10 +153,10 @@ def read_grid(path: str | Path) -> GridParts:
 
     Examples
     --------
-    >>> read_grid("g.npz")
+    >>> read_grid("g.csv")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    interp.errors.InterpError: cannot read a grid from 'g.npz': readable grid formats are .zarr
+    interp.errors.InterpError: cannot read a grid from 'g.csv': readable grid formats are .npz, ...
     """
     path = Path(path)
     reader = GRID_READERS.get(path.suffix.lower())
@@ -130,7 +165,66 @@ def read_grid(path: str | Path) -> GridParts:
             f"cannot read a grid from {path.name!r}: readable grid formats are "
             f"{', '.join(GRID_READERS)}"
         )
+    if not path.exists():
+        raise InterpError(f"{path}: no such file; check the name and folder")
     return reader(path)
+
+
+def _read_npz(path: Path) -> GridParts:
+    """A grid written as ``.npz``: the leading 1D arrays among x, y, z are the axes (as
+    many as the other arrays have leading dimensions), the others the fields."""
+    try:
+        with np.load(path, allow_pickle=False) as data:
+            arrays = {name: data[name] for name in data.files}
+    except (OSError, ValueError) as exc:
+        raise InterpError(f"{path}: not a readable .npz file ({exc})") from None
+    for g in (3, 2, 1):
+        names = list("xyz"[:g])
+        if not all(n in arrays and arrays[n].ndim == 1 for n in names):
+            continue
+        shape = tuple(len(arrays[n]) for n in names)
+        fields = {n: v.astype(np.float64) for n, v in arrays.items() if n not in names}
+        if fields and all(v.shape[:g] == shape for v in fields.values()):
+            return tuple(arrays[n].astype(np.float64) for n in names), fields, {}
+    raise InterpError(
+        f"{path}: not a grid written by interp: it needs 1D arrays x, y(, z) and fields "
+        f"shaped along them; found {', '.join(f'{n} {v.shape}' for n, v in arrays.items())}"
+    )
+
+
+def _read_vti(path: Path) -> GridParts:
+    """A grid written as ``.vti`` by :func:`_write_vti` (raw appended Float64 arrays)."""
+    raw = path.read_bytes()
+    start = raw.find(b'<AppendedData encoding="raw">')
+    head = raw[:start].decode("utf-8", errors="replace")
+    image = re.search(r'<ImageData WholeExtent="([^"]*)" Origin="([^"]*)" Spacing="([^"]*)"', head)
+    arrays = re.findall(
+        r'<DataArray type="Float64" Name="([^"]*)" NumberOfComponents="(\d+)" '
+        r'format="appended" offset="(\d+)"/>',
+        head,
+    )
+    if start < 0 or image is None or 'header_type="UInt64"' not in head:
+        raise InterpError(
+            f"{path}: not a grid written by interp (VTK image data with raw appended Float64 "
+            "arrays and UInt64 headers)"
+        )
+    extent, origin, spacing = (np.array(v.split(), dtype=np.float64) for v in image.groups())
+    n = (extent[1::2] - extent[0::2]).astype(np.int64) + 1
+    g = 3 if n[2] > 1 else 2 if n[1] > 1 else 1
+    axes = tuple(origin[a] + spacing[a] * np.arange(n[a]) for a in range(g))
+    body = raw.index(b"_", start) + 1
+    fields = {}
+    for name, comps, offset in arrays:
+        at = body + int(offset)
+        size = int(np.frombuffer(raw, "<u8", 1, at)[0])
+        if at + 8 + size > len(raw):
+            raise InterpError(f"{path}: the array {name!r} is cut short; the file is incomplete")
+        data = np.frombuffer(raw, "<f8", size // 8, at + 8)
+        k = int(comps)
+        # VTK stores x fastest: read the spatial axes reversed, then put them back
+        v = data.reshape(tuple(n[:g][::-1]) + ((k,) if k > 1 else ()))
+        fields[name] = np.ascontiguousarray(np.moveaxis(v, range(g), range(g)[::-1]))
+    return axes, fields, {}
 
 
 def _write_csv(grid: GridLike, path: Path) -> Path:
@@ -332,4 +426,8 @@ GRID_WRITERS: dict[str, Callable[[GridLike, Path], Path]] = {
     ".vti": _atomically(_write_vti),
 }
 #: grid readers by file suffix: ``reader(path) -> (axes, fields, units)``.
-GRID_READERS: dict[str, Callable[[Path], GridParts]] = {".zarr": read_zarr}
+GRID_READERS: dict[str, Callable[[Path], GridParts]] = {
+    ".npz": _read_npz,
+    ".vti": _read_vti,
+    ".zarr": read_zarr,
+}

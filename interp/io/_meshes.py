@@ -5,6 +5,7 @@ and its point data; any format it writes takes a mesh and node fields.
 from __future__ import annotations
 
 import os
+import warnings
 from collections.abc import Mapping
 from pathlib import Path
 
@@ -24,7 +25,8 @@ def read(path: str | os.PathLike) -> tuple[Mesh, dict[str, np.ndarray]]:
 
     The cells of the highest topological dimension in the file are taken
     (several blocks of the same kind are merged); lower-dimensional blocks,
-    such as boundary lines or vertices, are ignored.  Those cells must be
+    such as boundary lines or the triangles of a mixed tetrahedron and
+    triangle file, are dropped with a warning naming them.  Those cells must be
     simplices: lines, triangles or tetrahedra, linear or quadratic.  All
     points of the file are kept, so the point data line up with the nodes.
 
@@ -120,6 +122,18 @@ def _top_cells(path: Path, blocks: list[meshio.CellBlock]) -> tuple[str, np.ndar
         raise InterpError(
             f"{path}: the {top}D cells mix {found}; a mesh needs one cell kind: "
             "export it with a single element order"
+        )
+    dropped: dict[str, int] = {}
+    for b in blocks:
+        if b.dim < top and len(b.data):
+            dropped[b.type] = dropped.get(b.type, 0) + len(b.data)
+    if dropped:
+        listed = ", ".join(f"{n:,} {kind} cell{'s' * (n != 1)}" for kind, n in dropped.items())
+        kept = sum(counts.values())
+        warnings.warn(
+            f"{path}: dropped {listed}: the mesh is made of the {kept:,} {'/'.join(counts)} "
+            f"cells, those of the highest dimension ({top}D) in the file",
+            stacklevel=3,
         )
     (kind,) = counts
     return kind, np.concatenate([b.data for b in blocks if b.dim == top]).astype(np.int64)

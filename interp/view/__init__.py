@@ -19,7 +19,8 @@ function that opens a window or writes a PNG (all four pairs are also in
 - :func:`plot_residuals` / :func:`show_residuals`: residuals (matplotlib).
 
 The actors of a pyvista picture are named in ``plotter.actors``:
-``"surface"``, ``"edges"``, ``"contours"``, ``"points"``, ``"region"``,
+``"surface"``, ``"edges"``, ``"contours"`` (over ``"contour-halo"``, labelled by
+``"contour-labels"``), ``"points"``, ``"region"``,
 ``"frame"`` (the box of a 3D grid), ``"slices"`` and ``"isosurfaces"``.
 
 Without a display (Linux with neither ``DISPLAY`` nor ``WAYLAND_DISPLAY``
@@ -29,6 +30,7 @@ software rendering, no GPU needed) and falls back to OSMesa
 (``libosmesa6``); no virtual display is needed.
 
 Modules: :mod:`interp.view._surfaces` (pyvista pictures),
+:mod:`interp.view._look` (offset axes, tick formats, labelled contours, captions),
 :mod:`interp.view._charts` (matplotlib charts), :mod:`interp.view._scenes`
 (inputs as pyvista data), :mod:`interp.view._p2` (P2 subdivision),
 :mod:`interp.view._difference` (surface difference) and

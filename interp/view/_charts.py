@@ -9,6 +9,7 @@ import numpy as np
 
 from interp._geometry import polyline_lengths
 from interp.errors import InterpError
+from interp.view._look import axis_offset, axis_title
 from interp.view._render import finish_figure, new_figure
 from interp.view._surfaces import DIVERGING_CMAP
 
@@ -149,6 +150,8 @@ def plot_residuals(
     figsize : (float, float)
         Size in inches (100 pixels per inch in a PNG).
 
+    Large coordinates are drawn less a round offset stated on the axis (``x - 512000``).
+
     Returns
     -------
     matplotlib.figure.Figure
@@ -182,9 +185,10 @@ def plot_residuals(
     top = float(np.abs(res).max()) or 1.0
     fig = new_figure(figsize)
     ax_map, ax_hist = fig.subplots(1, 2, gridspec_kw={"width_ratios": [1.2, 1.0]})
+    offset = [axis_offset(float(c.min()), float(c.max())) for c in pts[:, :2].T]
     dots = ax_map.scatter(
-        pts[:, 0],
-        pts[:, 1],
+        pts[:, 0] - offset[0],
+        pts[:, 1] - offset[1],
         c=res,
         cmap=DIVERGING_CMAP,
         vmin=-top,
@@ -194,8 +198,9 @@ def plot_residuals(
         linewidths=0.3,
     )
     ax_map.set_aspect("equal", adjustable="datalim")
-    ax_map.set_xlabel("x")
-    ax_map.set_ylabel("y")
+    ax_map.ticklabel_format(useOffset=False, style="plain")
+    ax_map.set_xlabel(axis_title("x", offset[0]))
+    ax_map.set_ylabel(axis_title("y", offset[1]))
     fig.colorbar(dots, ax=ax_map, label="residual")
     _, edges, bars = ax_hist.hist(
         res, bins="auto" if bins is None else bins, edgecolor="0.3", linewidth=0.3

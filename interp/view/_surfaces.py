@@ -11,6 +11,7 @@ from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import as_ring
 from interp.view._difference import surface_difference, volumes_text
+from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, font, tick_decimals
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
 from interp.view._scenes import Scene, scene_of
@@ -22,6 +23,8 @@ if TYPE_CHECKING:
 CMAP = "viridis"
 #: colour map for differences and residuals, centred on zero.
 DIVERGING_CMAP = "RdBu_r"
+#: the most contour levels or isosurfaces drawn: more would merge into a solid tint.
+MAX_LEVELS = 100
 
 
 def plot(
@@ -81,7 +84,7 @@ def plot(
     diverging : bool
         Colour on a diverging map centred on zero (differences, residuals).
     title : str, optional
-        Text above the picture (default none).
+        Text above the picture (default the field's name and units; ``""`` for none).
     off_screen : bool, optional
         Render without a window (default: only when there is no display).
 
@@ -123,6 +126,8 @@ def plot(
     except BaseException:
         plotter.close()
         raise
+    if title is None:
+        title = scene.label or "mesh"
     if title:
         caption(plotter, title, "title", top=True)
     return plotter
@@ -269,12 +274,17 @@ def show_difference(
 
 def levels_of(levels: int | list[float], lo: float, hi: float, what: str) -> np.ndarray:
     if isinstance(levels, (int, np.integer)) and not isinstance(levels, bool):
-        if levels < 1:
-            raise InterpError(f"{what}: give a number of levels >= 1 or a list; got {levels}")
+        if not 1 <= levels <= MAX_LEVELS:
+            raise InterpError(
+                f"{what}: give a number of levels from 1 to {MAX_LEVELS} (more merge into a "
+                f"solid tint), or a list of levels; got {levels}"
+            )
         return np.linspace(lo, hi, int(levels) + 2)[1:-1]
     out = np.asarray(levels, dtype=np.float64).reshape(-1)
     if out.size == 0 or not np.isfinite(out).all():
         raise InterpError(f"{what}: levels must be finite numbers; got {levels!r}")
+    if out.size > MAX_LEVELS:
+        raise InterpError(f"{what}: at most {MAX_LEVELS} levels are drawn; got {out.size}")
     return np.sort(out)
 
 
@@ -439,11 +449,9 @@ def _draw(
     lines = {}
     if contours is not None:
         levels = levels_of(contours, scene.lo, scene.hi, "contours")
-        lines["contours"] = (
-            scene.surface.contour(isosurfaces=levels, scalars=SCALARS),
-            "black",
-            1.5,
-        )
+        drawn = scene.surface.contour(isosurfaces=levels, scalars=SCALARS)
+        if drawn.n_points:
+            add_contours(plotter, _lifted(drawn, warp), levels, 1.5)
     if (edges or scene.label is None) and scene.edges is not None:
         lines["edges"] = (scene.edges, "#505050", 1.0)
     if region is not None:
@@ -456,25 +464,24 @@ def _draw(
         plotter.add_mesh(
             pv.PolyData(_markers(scene, points, warp)),
             name="points",
-            color="black",
-            point_size=7,
             render_points_as_spheres=True,
+            **MARKERS,
         )
     if colour:
         plotter.add_scalar_bar(
             title=scene.label,
             mapper=_first_mapper(plotter),
             n_labels=5,
-            fmt="%.4g",
+            fmt=f"%.{tick_decimals(*colour['clim'], 5)}f",
             vertical=True,
             position_x=0.82,
             position_y=0.2,
             height=0.6,
             width=0.05,
-            title_font_size=_font(plotter, 1 / 40),
-            label_font_size=_font(plotter, 1 / 45),
+            title_font_size=font(plotter, 1 / 40),
+            label_font_size=font(plotter, 1 / 45),
         )
-    _axes(plotter, scene, warp)
+    axes_and_camera(plotter, scene, warp)
 
 
 def _colouring(
@@ -500,69 +507,6 @@ def _colouring(
         "clim": (float(pair[0]), float(pair[1])),
         "show_scalar_bar": False,
     }
-
-
-def _axes(plotter: pyvista.Plotter, scene: Scene, warp: float | None) -> None:
-    """Axes with coordinates (values on the vertical axis of a warped surface), and the
-    camera: a map seen from above, or a view from the south-west."""
-    flat = scene.flat and warp is None
-    box = np.array(plotter.bounds, dtype=np.float64)
-    if warp is not None:
-        box[4:] = box[4:] / warp
-    plotter.show_bounds(
-        axes_ranges=box.tolist(),
-        xtitle="x",
-        ytitle="y",
-        ztitle="z" if warp is None else scene.label,
-        show_zaxis=not flat,
-        location="outer",
-        font_size=_font(plotter, 1 / 60),
-        fmt="%.4g",
-    )
-    if flat:
-        plotter.enable_parallel_projection()
-        plotter.view_xy()
-    else:
-        plotter.view_vector((-0.8, -1.6, 1.8), viewup=(0.0, 0.0, 1.0))
-    plotter.camera.zoom(0.9)
-    if scene.label is not None:
-        _shift_left(plotter.camera, plotter.window_size, 0.08)
-
-
-def _shift_left(camera: object, window_size: list[int], fraction: float) -> None:
-    """Pan the view so the picture moves left by ``fraction`` of its width (room for the
-    colour bar on the right)."""
-    position, focal = np.array(camera.position), np.array(camera.focal_point)
-    ahead = focal - position
-    if camera.parallel_projection:
-        height = 2.0 * camera.parallel_scale
-    else:
-        height = 2.0 * np.linalg.norm(ahead) * np.tan(np.radians(camera.view_angle) / 2)
-    right = np.cross(ahead, camera.up)
-    step = fraction * height * window_size[0] / window_size[1] * right / np.linalg.norm(right)
-    camera.position, camera.focal_point = position + step, focal + step
-
-
-def caption(plotter: pyvista.Plotter, text: str, name: str, top: bool = False) -> None:
-    """A line of text centred at the top (a title) or small at the bottom left, sized to
-    fit the picture's width."""
-    width = plotter.window_size[0]
-    # a character is about as wide as the font size in pixels
-    size = min(_font(plotter, 1 / 40 if top else 1 / 70), width // max(1, len(text)))
-    actor = plotter.add_text(
-        text,
-        position=(0.5, 0.985) if top else (0.01, 0.01),
-        viewport=True,
-        font_size=max(6, size),
-        name=name,
-    )
-    actor.prop.justification_horizontal = "center" if top else "left"
-    actor.prop.justification_vertical = "top" if top else "bottom"
-
-
-def _font(plotter: pyvista.Plotter, fraction: float) -> int:
-    """A font size in points, a fraction of the picture's height (at least 7)."""
-    return max(7, round(plotter.window_size[1] * fraction))
 
 
 def _first_mapper(plotter: pyvista.Plotter) -> object:
