@@ -7,7 +7,9 @@ whitespace), read whole with :func:`read_points` or in chunks with
 from __future__ import annotations
 
 import csv
+import io
 import os
+import re
 import warnings
 from collections.abc import Iterator, Sequence
 from contextlib import ExitStack
@@ -17,6 +19,9 @@ from pathlib import Path
 from typing import IO
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pacsv
 
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path
@@ -29,6 +34,12 @@ CHUNK_ROWS = 500_000
 WRITE_ROWS = 1 << 18
 #: text encoding of point files; undecodable bytes pass through unchanged.
 ENCODING = {"encoding": "utf-8", "errors": "surrogateescape"}
+#: parse clean blocks with ``pyarrow.csv``; False parses every block cell by cell.
+BULK = True
+#: magnitudes Arrow writes in the same digits as ``repr`` (plain notation, shortest round trip).
+PLAIN = (1e-4, 1e10)
+#: whitespace other than space, tab and line feed, which ``str.split`` also splits on.
+_OTHER_SPACE = re.compile(r"[^\S \t\n]")
 
 
 @dataclass(frozen=True)
@@ -279,6 +290,70 @@ def _parse(
         keep = np.array([bool(r.strip()) for r in rows], dtype=bool)
         rows = [r for r, k in zip(rows, keep, strict=True) if k]
         numbers = numbers[keep]
+        text = "\n".join(rows)
+    parsed = _parse_bulk(layout, text, text_columns) if BULK else None
+    points, values = parsed or _parse_cells(path, layout, rows, numbers, text_columns, text)
+    return PointChunk(
+        points,
+        values,
+        rows,
+        numbers,
+        layout.header,
+        layout.names,
+        layout.delimiter,
+        dict(text_columns),
+    )
+
+
+def _parse_bulk(
+    layout: _Layout, text: str, text_columns: dict[str, int]
+) -> tuple[np.ndarray, dict[str, np.ndarray]] | None:
+    """Points and values of a clean block through ``pyarrow.csv``, or None.
+
+    A block is clean when every row has the header's cells, every numeric
+    column parses, and every coordinate is finite; the others (quotes,
+    ragged rows, text cells, bad coordinates, odd whitespace) go to
+    :func:`_parse_cells`, which gives the same arrays and names bad rows.
+    """
+    delimiter = layout.delimiter
+    if '"' in text or (delimiter == " " and _OTHER_SPACE.search(text)):
+        return None
+    if delimiter == " ":
+        text = re.sub(r"(?m)^ +| +$", "", re.sub(r"[ \t]+", " ", text))
+    keys = [str(j) for j in range(len(layout.names))]
+    numeric = layout.coords + [j for j in layout.values if layout.names[j] not in text_columns]
+    try:
+        table = pacsv.read_csv(
+            io.BytesIO(text.encode(**ENCODING)),
+            read_options=pacsv.ReadOptions(column_names=keys),
+            parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False),
+            convert_options=pacsv.ConvertOptions(
+                column_types=dict.fromkeys([keys[j] for j in numeric], pa.float64()),
+                include_columns=[keys[j] for j in numeric],
+                null_values=[""],
+                strings_can_be_null=False,
+            ),
+        )
+    except pa.ArrowInvalid:
+        return None
+    columns = [table.column(keys[j]).to_numpy() for j in numeric]
+    points = np.column_stack(columns[: len(layout.coords)])
+    if not np.isfinite(points).all():
+        return None
+    names = [layout.names[j] for j in numeric[len(layout.coords) :]]
+    return points, dict(zip(names, columns[len(layout.coords) :], strict=True))
+
+
+def _parse_cells(
+    path: Path,
+    layout: _Layout,
+    rows: list[str],
+    numbers: np.ndarray,
+    text_columns: dict[str, int],
+    text: str,
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Points and values cell by cell, naming the line of a bad row; new text
+    columns are added to ``text_columns``."""
     k = len(layout.names)
     cells = _flat_cells(path, rows, layout.delimiter, k, numbers, '"' in text)
     points = np.empty((len(rows), len(layout.coords)))
@@ -294,16 +369,7 @@ def _parse(
             values[name] = column
         else:
             text_columns[name] = int(numbers[bad])
-    return PointChunk(
-        points,
-        values,
-        rows,
-        numbers,
-        layout.header,
-        layout.names,
-        layout.delimiter,
-        dict(text_columns),
-    )
+    return points, values
 
 
 def _flat_cells(
@@ -453,12 +519,22 @@ class TableWriter:
             )
         if not len(table):
             return
-        k = table.shape[1]
-        cells = ["" if v != v else repr(v).removesuffix(".0") for v in table.ravel().tolist()]
-        columns = [cells[j::k] for j in range(k)]
+        columns = [_number_text(column) for column in table.T]
         if rows is not None:
             columns.insert(0, rows)
         self._file.write("\n".join(map(self.delimiter.join, zip(*columns, strict=True))) + "\n")
+
+
+def _number_text(column: np.ndarray) -> list[str]:
+    """Numbers in their shortest round-trip form (``3`` for 3.0, as ``repr``
+    without ``.0``); NaN is an empty cell.  Arrow formats the magnitudes it
+    writes like ``repr``, Python the rest."""
+    text = pc.fill_null(pc.cast(pa.array(column, from_pandas=True), pa.string()), "").to_pylist()
+    size = np.abs(column)
+    plain = ((size >= PLAIN[0]) & (size < PLAIN[1])) | (column == 0) | np.isnan(column)
+    for i in np.flatnonzero(~plain).tolist():
+        text[i] = repr(float(column[i])).removesuffix(".0")
+    return text
 
 
 def write_table(
