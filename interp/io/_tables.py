@@ -311,8 +311,9 @@ def _parse_bulk(
     """Points and values of a clean block through ``pyarrow.csv``, or None.
 
     A block is clean when every row has the header's cells, every numeric
-    column parses, and every coordinate is finite; the others (quotes,
-    ragged rows, text cells, bad coordinates, odd whitespace) go to
+    column parses with no cell spelling NaN (Arrow reads ``nan(1)``, Python
+    does not), and every coordinate is finite; the others (quotes, ragged
+    rows, text cells, bad coordinates, odd whitespace) go to
     :func:`_parse_cells`, which gives the same arrays and names bad rows.
     """
     delimiter = layout.delimiter
@@ -335,6 +336,8 @@ def _parse_bulk(
             ),
         )
     except pa.ArrowInvalid:
+        return None
+    if any(pc.sum(pc.is_nan(column)).as_py() for column in table.columns):
         return None
     columns = [table.column(keys[j]).to_numpy() for j in numeric]
     points = np.column_stack(columns[: len(layout.coords)])
