@@ -524,8 +524,13 @@ class TableWriter:
             return
         columns = [_number_text(column) for column in table.T]
         if rows is not None:
-            columns.insert(0, rows)
-        self._file.write("\n".join(map(self.delimiter.join, zip(*columns, strict=True))) + "\n")
+            columns.insert(0, list(rows))
+        width = 2 * len(columns)
+        pieces = [self.delimiter] * (width * len(table))
+        for j, column in enumerate(columns):
+            pieces[2 * j :: width] = column
+        pieces[width - 1 :: width] = ["\n"] * len(table)
+        self._file.write("".join(pieces))
 
 
 def _number_text(column: np.ndarray) -> list[str]:
