@@ -2,7 +2,9 @@
 
 - :mod:`interp.io._meshes`: mesh files through meshio (:func:`read`, :func:`write`);
 - :mod:`interp.io._tables`: point tables (:func:`read_points`,
-  :func:`iter_point_chunks`, :class:`TableWriter`, :func:`write_table`);
+  :func:`iter_point_chunks`);
+- :mod:`interp.io._writer`: delimited tables out (:class:`TableWriter`,
+  :func:`write_table`);
 - :mod:`interp.io._polygons`: polygon files (:func:`read_polygon`);
 - :mod:`interp.io._grids`: grid files by suffix (:data:`GRID_WRITERS`,
   :data:`GRID_READERS`: ``.npz``, ``.csv``, ``.vti``, ``.zarr``; ``.tif``/``.tiff``
@@ -46,14 +48,8 @@ from interp.io._las import (
 )
 from interp.io._meshes import read, write
 from interp.io._polygons import read_polygon
-from interp.io._tables import (
-    PointChunk,
-    TableWriter,
-    iter_point_chunks,
-    read_points,
-    read_table,
-    write_table,
-)
+from interp.io._tables import PointChunk, iter_point_chunks, read_points, read_table
+from interp.io._writer import TableWriter, write_table
 from interp.io._xarray import grid_to_xarray, write_netcdf
 
 GRID_WRITERS.update(

@@ -25,7 +25,7 @@ import numpy as np
 from interp._arrays import is_dask
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path, move_into_place
-from interp.io._tables import write_table
+from interp.io._writer import write_table
 
 #: name stored in a Zarr store's attributes to mark a grid written by :func:`save_zarr`.
 ZARR_MARK = "interp.grid"

@@ -7,29 +7,34 @@ whitespace), read whole with :func:`read_points` or in chunks with
 from __future__ import annotations
 
 import csv
+import io
 import os
+import re
 import warnings
 from collections.abc import Iterator, Sequence
-from contextlib import ExitStack
 from dataclasses import dataclass
 from itertools import islice, repeat
 from pathlib import Path
 from typing import IO
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+import pyarrow.csv as pacsv
 
 from interp.errors import InterpError
-from interp.io._atomic import atomic_path
 from interp.io._las import is_las_file, read_las_points
 
 #: delimiters of point files, as written; " " stands for any run of whitespace.
 DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab", " ": "whitespace"}
 #: data rows parsed at a time by :func:`read_points`.
 CHUNK_ROWS = 500_000
-#: table rows formatted at a time by :func:`write_table`.
-WRITE_ROWS = 1 << 18
 #: text encoding of point files; undecodable bytes pass through unchanged.
 ENCODING = {"encoding": "utf-8", "errors": "surrogateescape"}
+#: parse clean blocks with ``pyarrow.csv``; False parses every block cell by cell.
+BULK = True
+#: whitespace other than space, tab and line feed, which ``str.split`` also splits on.
+_OTHER_SPACE = re.compile(r"[^\S \t\n]")
 
 
 @dataclass(frozen=True)
@@ -298,6 +303,73 @@ def _parse(
         keep = np.array([bool(r.strip()) for r in rows], dtype=bool)
         rows = [r for r, k in zip(rows, keep, strict=True) if k]
         numbers = numbers[keep]
+        text = "\n".join(rows)
+    parsed = _parse_bulk(layout, text, text_columns) if BULK else None
+    points, values = parsed or _parse_cells(path, layout, rows, numbers, text_columns, text)
+    return PointChunk(
+        points,
+        values,
+        rows,
+        numbers,
+        layout.header,
+        layout.names,
+        layout.delimiter,
+        dict(text_columns),
+    )
+
+
+def _parse_bulk(
+    layout: _Layout, text: str, text_columns: dict[str, int]
+) -> tuple[np.ndarray, dict[str, np.ndarray]] | None:
+    """Points and values of a clean block through ``pyarrow.csv``, or None.
+
+    A block is clean when every row has the header's cells, every numeric
+    column parses with no cell spelling NaN (Arrow reads ``nan(1)``, Python
+    does not), and every coordinate is finite; the others (quotes, ragged
+    rows, text cells, bad coordinates, odd whitespace) go to
+    :func:`_parse_cells`, which gives the same arrays and names bad rows.
+    """
+    delimiter = layout.delimiter
+    if '"' in text or (delimiter == " " and _OTHER_SPACE.search(text)):
+        return None
+    if delimiter == " ":
+        text = re.sub(r"(?m)^ +| +$", "", re.sub(r"[ \t]+", " ", text))
+    keys = [str(j) for j in range(len(layout.names))]
+    numeric = layout.coords + [j for j in layout.values if layout.names[j] not in text_columns]
+    try:
+        table = pacsv.read_csv(
+            io.BytesIO(text.encode(**ENCODING)),
+            read_options=pacsv.ReadOptions(column_names=keys),
+            parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False),
+            convert_options=pacsv.ConvertOptions(
+                column_types=dict.fromkeys([keys[j] for j in numeric], pa.float64()),
+                include_columns=[keys[j] for j in numeric],
+                null_values=[""],
+                strings_can_be_null=False,
+            ),
+        )
+    except pa.ArrowInvalid:
+        return None
+    if any(pc.sum(pc.is_nan(column)).as_py() for column in table.columns):
+        return None
+    columns = [table.column(keys[j]).to_numpy() for j in numeric]
+    points = np.column_stack(columns[: len(layout.coords)])
+    if not np.isfinite(points).all():
+        return None
+    names = [layout.names[j] for j in numeric[len(layout.coords) :]]
+    return points, dict(zip(names, columns[len(layout.coords) :], strict=True))
+
+
+def _parse_cells(
+    path: Path,
+    layout: _Layout,
+    rows: list[str],
+    numbers: np.ndarray,
+    text_columns: dict[str, int],
+    text: str,
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Points and values cell by cell, naming the line of a bad row; new text
+    columns are added to ``text_columns``."""
     k = len(layout.names)
     cells = _flat_cells(path, rows, layout.delimiter, k, numbers, '"' in text)
     points = np.empty((len(rows), len(layout.coords)))
@@ -313,16 +385,7 @@ def _parse(
             values[name] = column
         else:
             text_columns[name] = int(numbers[bad])
-    return PointChunk(
-        points,
-        values,
-        rows,
-        numbers,
-        layout.header,
-        layout.names,
-        layout.delimiter,
-        dict(text_columns),
-    )
+    return points, values
 
 
 def _flat_cells(
@@ -390,138 +453,3 @@ def _coordinate(path: Path, name: str, cells: list[str], numbers: np.ndarray) ->
     else:
         problem = f"the {name} coordinate is {cell!r}"
     raise InterpError(f"{path}, line {numbers[i]}: {problem}; fix or remove that row")
-
-
-class TableWriter:
-    """Write a delimited table row block by row block, atomically.
-
-    Use it as a context manager: the header is written on entry, each
-    :meth:`write` appends rows, and the finished file replaces ``path`` on a
-    normal exit.  On an error the temporary file is deleted and an existing
-    ``path`` is left untouched.
-
-    Parameters
-    ----------
-    path : path-like
-    header : sequence of str
-        Column names.
-    delimiter : str
-        ``","``, ``";"``, ``"\\t"`` or ``" "``.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "out.csv"
-    >>> with TableWriter(path, ["id", "x", "z"]) as out:
-    ...     out.write(["A,0.5", "B,2"], np.array([[3.0], [np.nan]]))
-    >>> path.read_text().splitlines()
-    ['id,x,z', 'A,0.5,3', 'B,2,']
-    """
-
-    def __init__(
-        self, path: str | os.PathLike, header: Sequence[str], delimiter: str = ","
-    ) -> None:
-        if delimiter not in DELIMITERS:
-            raise InterpError(
-                f"delimiter must be one of {', '.join(map(repr, DELIMITERS))}; got {delimiter!r}"
-            )
-        names = [str(n) for n in header]
-        for n in names:
-            if delimiter in n or "\n" in n:
-                raise InterpError(
-                    f"column name {n!r} contains the delimiter {delimiter!r} or a line break; "
-                    "rename the column"
-                )
-        self.path = Path(path)
-        self.header = names
-        self.delimiter = delimiter
-        self._stack: ExitStack | None = None
-        self._file: IO[str] | None = None
-
-    def __enter__(self) -> TableWriter:
-        with ExitStack() as stack:
-            tmp = stack.enter_context(atomic_path(self.path))
-            self._file = stack.enter_context(open(tmp, "w", newline="\n", **ENCODING))
-            self._file.write(self.delimiter.join(self.header) + "\n")
-            self._stack = stack.pop_all()
-        return self
-
-    def __exit__(self, *exc_info: object) -> bool:
-        stack, self._stack, self._file = self._stack, None, None
-        return stack.__exit__(*exc_info)
-
-    def write(self, rows: Sequence[str] | None, values: object) -> None:
-        """Append rows: ``rows[i]`` (raw text, or nothing) then the cells of ``values[i]``.
-
-        Parameters
-        ----------
-        rows : sequence of str or None
-            Leading text of each row, written unchanged; None for rows made
-            of ``values`` only.
-        values : array_like (n, k) or (n,)
-            Numbers written after the row text, shortest round-trip form
-            (``3`` for 3.0); NaN is an empty cell.
-        """
-        if self._file is None:
-            raise InterpError("TableWriter.write needs an open writer: use it in a with block")
-        table = np.asarray(values, dtype=np.float64)
-        table = table.reshape(len(table), -1) if table.ndim == 1 else table
-        if table.ndim != 2 or (rows is not None and len(rows) != len(table)):
-            raise InterpError(
-                f"values must be an (n, k) array with one row per text row; got shape "
-                f"{table.shape} for {'no' if rows is None else len(rows)} text rows"
-            )
-        if not len(table):
-            return
-        k = table.shape[1]
-        cells = ["" if v != v else repr(v).removesuffix(".0") for v in table.ravel().tolist()]
-        columns = [cells[j::k] for j in range(k)]
-        if rows is not None:
-            columns.insert(0, rows)
-        self._file.write("\n".join(map(self.delimiter.join, zip(*columns, strict=True))) + "\n")
-
-
-def write_table(
-    path: str | os.PathLike,
-    header: Sequence[str],
-    columns: np.ndarray | Sequence[object],
-    delimiter: str = ",",
-) -> Path:
-    """Write a numeric table with a header row, atomically; NaN is an empty cell.
-
-    Parameters
-    ----------
-    path : path-like
-    header : sequence of str
-        One name per column.
-    columns : ndarray (n, k) or sequence of k arrays (n,)
-        A 2-D array is read as rows by columns; a list or tuple as columns.
-    delimiter : str
-        ``","``, ``";"``, ``"\\t"`` or ``" "``.
-
-    Returns
-    -------
-    Path
-        ``path``.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "t.csv"
-    >>> _ = write_table(path, ["x", "v"], [np.array([0.0, 0.5]), np.array([1e-3, np.nan])])
-    >>> path.read_text().splitlines()
-    ['x,v', '0,0.001', '0.5,']
-    """
-    if isinstance(columns, np.ndarray):
-        table = np.asarray(columns, dtype=np.float64)
-    else:
-        table = np.column_stack([np.asarray(c, dtype=np.float64) for c in columns])
-    if table.ndim != 2 or table.shape[1] != len(header):
-        raise InterpError(
-            f"the table has shape {table.shape} but the header names {len(header)} columns; "
-            "pass one name per column"
-        )
-    with TableWriter(path, header, delimiter) as out:
-        for start in range(0, len(table), WRITE_ROWS):
-            out.write(None, table[start : start + WRITE_ROWS])
-    return Path(path)
