@@ -45,6 +45,7 @@ Examples
 from interp._fit import fit
 from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp._overlay import Overlay, overlay
+from interp._prepare import Prepared, prepare
 from interp._quadrature import quadrature
 from interp._triangulate import triangulate
 from interp._validate import crossvalidate, residual_summary
@@ -83,6 +84,7 @@ __all__ = [
     "Overlay",
     "Pieces",
     "Polygon",
+    "Prepared",
     "Profile",
     "Region",
     "RenderingUnavailable",
@@ -102,6 +104,7 @@ __all__ = [
     "plot_difference",
     "plot_profile",
     "plot_residuals",
+    "prepare",
     "profile",
     "quadrature",
     "read",

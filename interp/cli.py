@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 import interp
+from interp._kernels import set_announce
 from interp.source import choose_fields, describe, load, sample_file
 
 CAUTION = (
@@ -302,6 +303,16 @@ def cmd_demo(args: argparse.Namespace) -> None:
         print(summary.text())
 
 
+def cmd_prepare(args: argparse.Namespace) -> None:
+    report = interp.prepare()
+    if not args.quiet:
+        print(
+            f"compiled {report.compiled} kernel specialisations in {report.seconds:.1f} s"
+            if report.compiled
+            else f"every kernel already compiled (checked in {report.seconds:.1f} s)"
+        )
+
+
 EXAMPLES = {
     "info": "interp info data/yard_2026_03.csv",
     "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 -o yard.npz",
@@ -312,6 +323,7 @@ EXAMPLES = {
     "crossval": "interp crossval data/yard_2026_03.csv --json",
     "view": "interp view data/yard_2026_03.csv --warp 2 --contours 10 --screenshot yard.png",
     "demo": "interp demo --out interp-demo",
+    "prepare": "interp prepare",
 }
 
 
@@ -408,6 +420,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("demo", "run the whole job on the bundled demo data", cmd_demo)
     p.add_argument("--out", type=Path, default=Path("interp-demo"), help="output folder")
+
+    add("prepare", "compile every kernel ahead (servers, containers, CI)", cmd_prepare)
     return parser
 
 
@@ -420,6 +434,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     interp 0.1.0
     """
     args = build_parser().parse_args(argv)
+    if args.quiet:
+        set_announce(False)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore" if args.quiet else "always")
         warnings.showwarning = _note
