@@ -191,3 +191,13 @@ def test_boundary_keeps_the_holes_of_the_polygon_file(survey):
     e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
     area = np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]) / 2
     assert json.loads(r.stdout)["measure"] == pytest.approx(area[keep].sum(), rel=1e-9)
+
+
+def test_prepare_compiles_ahead_then_finds_everything_cached():
+    first = run("prepare")
+    assert first.returncode == 0, first.stderr
+    assert first.stdout.startswith(("compiled ", "every kernel already compiled"))
+    second = run("prepare")  # the kernels compiled by the first run load from the cache
+    assert second.returncode == 0, second.stderr
+    assert second.stdout.startswith("every kernel already compiled")
+    assert second.stderr == ""
