@@ -5,6 +5,7 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._kernels.geometry import sort_small
 from interp._kernels.polygon import bin_index, inside
 
 
@@ -76,6 +77,18 @@ def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
+def _distinct(a):  # pragma: no cover
+    """Sort ``a`` and move its distinct values to the front (numpy's ``unique``); their count."""
+    sort_small(a)
+    n = 1
+    for i in range(1, a.size):
+        if a[i] != a[n - 1]:
+            a[n] = a[i]
+            n += 1
+    return n
+
+
+@numba.njit(cache=True, nogil=True)
 def cut_cells(
     tri, cand, lo, h, nx, ny, start, members, seg, row_start, row_members
 ):  # pragma: no cover
@@ -97,10 +110,10 @@ def cut_cells(
     for kk in range(cand.shape[0]):
         c = cand[kk]
         _ccw(tri[c], v)
-        i0 = bin_index((v[:, 0].min() - lo[0]) / h, nx)
-        i1 = bin_index((v[:, 0].max() - lo[0]) / h, nx)
-        j0 = bin_index((v[:, 1].min() - lo[1]) / h, ny)
-        j1 = bin_index((v[:, 1].max() - lo[1]) / h, ny)
+        i0 = bin_index((min(v[0, 0], v[1, 0], v[2, 0]) - lo[0]) / h, nx)
+        i1 = bin_index((max(v[0, 0], v[1, 0], v[2, 0]) - lo[0]) / h, nx)
+        j0 = bin_index((min(v[0, 1], v[1, 1], v[2, 1]) - lo[1]) / h, ny)
+        j1 = bin_index((max(v[0, 1], v[1, 1], v[2, 1]) - lo[1]) / h, ny)
         ns, nb = 0, 3
         xs[0], xs[1], xs[2] = v[0, 0], v[1, 0], v[2, 0]
         for j in range(j0, j1 + 1):
@@ -137,9 +150,8 @@ def cut_cells(
                 n += 1
             offsets[kk + 1] = n
             continue
-        bx = np.unique(xs[:nb])
-        for s in range(bx.shape[0] - 1):
-            at[0], at[1] = bx[s], bx[s + 1]
+        for s in range(_distinct(xs[:nb]) - 1):
+            at[0], at[1] = xs[s], xs[s + 1]
             at[2] = 0.5 * (at[0] + at[1])
             # rows of ys: y at the slab's left end, right end and middle of each boundary;
             # row 0 is the triangle's lower side, row 1 its upper side, then the edges

@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR
+from interp._kernels.geometry import sort_small
 
 
 @numba.njit(cache=True, nogil=True)
@@ -42,14 +43,14 @@ def _node_gradient(
         grad[:] = np.nan
         return
     ring1 = count
-    members[1:count].sort()
+    sort_small(members[1:count])
     if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
         return
     for r in range(1, ring1):
         count = _add_ring(
             members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
         )
-    members[1:count].sort()
+    sort_small(members[1:count])
     if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
         return
     if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
