@@ -77,13 +77,13 @@ def run_case(name: str, code: str, folder: Path, kernels: bool) -> tuple[float, 
     env = dict(os.environ, PYTHONPATH=str(folder))
     env.pop("NUMBA_CACHE_DIR", None)
     if name == "demo":
-        cmd = [sys.executable, "-m", "interp.cli", "demo", "-q", "-o", str(folder / "demo-out")]
+        cmd = [sys.executable, "-m", "interp.cli", "demo", "-q", "--out", str(folder / "demo-out")]
         if kernels:
             cmd = [
                 sys.executable,
                 "-c",
                 RECORD + "from interp.cli import main\n"
-                f"main(['demo', '-q', '-o', {str(folder / 'demo-out')!r}])\n" + REPORT,
+                f"main(['demo', '-q', '--out', {str(folder / 'demo-out')!r}])\n" + REPORT,
             ]
     else:
         body = SETUP + code + "\n"
