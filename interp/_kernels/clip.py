@@ -210,6 +210,15 @@ def cut_cells(
 
 
 @numba.njit(cache=True, nogil=True)
+def _same(p, q):  # pragma: no cover
+    """Whether the triangles p and q (3, 2) have the same corners in the same order."""
+    for i in range(3):
+        if p[i, 0] != q[i, 0] or p[i, 1] != q[i, 1]:
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
 def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
     """Whole inside triangles and the pieces of cut ones, in triangle order.
 
@@ -227,7 +236,7 @@ def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
             for q in range(offsets[kk], offsets[kk + 1]):
                 out[n] = pieces[q]
                 src[n] = c
-                whole[n] = single and np.all(pieces[q] == tri[c])
+                whole[n] = single and _same(pieces[q], tri[c])
                 n += 1
             kk += 1
 
@@ -267,8 +276,14 @@ def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     nb = b.shape[0]
     box = np.empty((nb, 4))
     for c in range(nb):
-        box[c, 0], box[c, 1] = b[c, :, 0].min(), b[c, :, 0].max()
-        box[c, 2], box[c, 3] = b[c, :, 1].min(), b[c, :, 1].max()
+        box[c, 0], box[c, 1] = (
+            min(b[c, 0, 0], b[c, 1, 0], b[c, 2, 0]),
+            max(b[c, 0, 0], b[c, 1, 0], b[c, 2, 0]),
+        )
+        box[c, 2], box[c, 3] = (
+            min(b[c, 0, 1], b[c, 1, 1], b[c, 2, 1]),
+            max(b[c, 0, 1], b[c, 1, 1], b[c, 2, 1]),
+        )
     stamp = np.full(nb, -1, dtype=np.int64)
     poly = np.empty((32, 2))
     work = np.empty((32, 2))
@@ -279,8 +294,8 @@ def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     n = 0
     for c in range(a.shape[0]):
         _ccw(a[c], u)
-        x0, x1 = u[:, 0].min(), u[:, 0].max()
-        y0, y1 = u[:, 1].min(), u[:, 1].max()
+        x0, x1 = min(u[0, 0], u[1, 0], u[2, 0]), max(u[0, 0], u[1, 0], u[2, 0])
+        y0, y1 = min(u[0, 1], u[1, 1], u[2, 1]), max(u[0, 1], u[1, 1], u[2, 1])
         i0 = int(max(np.floor((x0 - lo[0]) / h[0]), 0.0))
         i1 = int(min(np.floor((x1 - lo[0]) / h[0]), shape[0] - 1.0))
         j0 = int(max(np.floor((y0 - lo[1]) / h[1]), 0.0))
