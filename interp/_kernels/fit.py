@@ -36,6 +36,7 @@ def _node_gradient(
     order the neighbour lists come in; a leave-one-out refit, whose lists
     are built differently, then takes the same decisions.
     """
+    # the degrees as int64, not literals: one compiled _local_fit for both
     members[0] = node
     mark[node] = stamp
     count = _add_ring(node, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, 1)
@@ -44,16 +45,16 @@ def _node_gradient(
         return
     ring1 = count
     sort_small(members[1:count])
-    if _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+    if _local_fit(x, v, node, members, count, np.int64(2), grad) >= MIN_RCOND:
         return
     for r in range(1, ring1):
         count = _add_ring(
             members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
         )
     sort_small(members[1:count])
-    if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+    if count > ring1 and _local_fit(x, v, node, members, count, np.int64(2), grad) >= MIN_RCOND:
         return
-    if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
+    if _local_fit(x, v, node, members, count, np.int64(1), grad) < MIN_RCOND_LINEAR:
         grad[:] = np.nan
 
 
