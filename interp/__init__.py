@@ -47,6 +47,7 @@ from interp._contour import Contours, contour_levels, contours
 from interp._fit import fit
 from interp._integrate import integrate, integrate_pieces, mean, measure, norm_l2, summarize
 from interp._overlay import Overlay, overlay
+from interp._prepare import Prepared, prepare
 from interp._quadrature import quadrature
 from interp._triangulate import triangulate
 from interp._validate import crossvalidate, residual_summary, write_residuals
@@ -86,6 +87,7 @@ __all__ = [
     "Overlay",
     "Pieces",
     "Polygon",
+    "Prepared",
     "Profile",
     "Region",
     "RenderingUnavailable",
@@ -107,6 +109,7 @@ __all__ = [
     "plot_difference",
     "plot_profile",
     "plot_residuals",
+    "prepare",
     "profile",
     "quadrature",
     "read",

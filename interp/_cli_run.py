@@ -54,6 +54,9 @@ def run(args: argparse.Namespace) -> int:
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore" if args.quiet else "always")
+            # the interpreter's own notes (a file left open by an import that a signal
+            # interrupted) are not notes about the user's data
+            warnings.simplefilter("ignore", ResourceWarning)
             warnings.showwarning = _note
             code = _guarded(args)
         sys.stdout.flush()

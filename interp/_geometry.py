@@ -199,7 +199,7 @@ def simplex_geometry(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     >>> float(vol[0]), float(size[0])
     (1.0, 2.0)
     """
-    corners = np.ascontiguousarray(corners, dtype=np.float64)
+    corners = np.require(corners, np.float64, ["C", "W"])  # one layout: one compiled kernel
     vol = np.empty(corners.shape[0])
     size = np.empty(corners.shape[0])
     measure_and_size(corners, vol, size)

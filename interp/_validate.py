@@ -144,7 +144,8 @@ def crossvalidate(
     bary = np.full((len(x), d + 1), np.nan)
     grad = np.full((len(x) if order == 2 else 0, d + 1, d, data.mean.shape[1]), np.nan)
     vc_ptr, vc_idx = _vertex_cells(cells, len(x))
-    leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, grad)
+    p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
+    leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, p2_grad)
     if boundary is not None:
         # the cell of the others' triangulation that holds each point, masked as the fit's
         found = np.flatnonzero(tri[:, 0] >= 0)

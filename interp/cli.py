@@ -37,6 +37,7 @@ from interp._cli_args import (
 )
 from interp._cli_run import run
 from interp._format import decimals, number, table, unit_power
+from interp._kernels import set_announce
 from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs, read_las_points
 from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
@@ -398,6 +399,16 @@ def cmd_demo(args: argparse.Namespace) -> None:
         print(summary.text())
 
 
+def cmd_prepare(args: argparse.Namespace) -> None:
+    report = interp.prepare()
+    if not args.quiet:
+        print(
+            f"compiled {report.compiled} kernel specialisations in {report.seconds:.1f} s"
+            if report.compiled
+            else f"every kernel already compiled (checked in {report.seconds:.1f} s)"
+        )
+
+
 EXAMPLES = {
     "info": "interp info data/yard_2026_03.csv",
     "grid": "interp grid data/yard_2026_03.csv --spacing 0.5 --crs EPSG:32633 -o yard.tif",
@@ -409,6 +420,7 @@ EXAMPLES = {
     "contour": "interp contour data/yard_2026_03.csv --interval 0.5 -o contours.geojson",
     "view": "interp view data/yard_2026_03.csv --warp 2 --contours 10 --screenshot yard.png",
     "demo": "interp demo --out interp-demo",
+    "prepare": "interp prepare",
 }
 
 
@@ -552,6 +564,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = add("demo", "run the whole job on the bundled demo data", cmd_demo)
     p.add_argument("--out", type=Path, default=Path("interp-demo"), help="output folder")
+
+    add("prepare", "compile every kernel ahead (servers, containers, CI)", cmd_prepare)
     return parser
 
 
@@ -563,7 +577,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     >>> main(["--version"])  # doctest: +SKIP
     interp 0.1.0
     """
-    return run(build_parser().parse_args(argv))
+    args = build_parser().parse_args(argv)
+    if getattr(args, "quiet", False):
+        set_announce(False)
+    return run(args)
 
 
 if __name__ == "__main__":

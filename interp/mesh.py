@@ -173,10 +173,18 @@ class Mesh:
         """Number of cells."""
         return self._cells.shape[0]
 
-    @property
+    @cached_property
     def corners(self) -> np.ndarray:
-        """Corner node indices of each cell, (m, dim + 1)."""
-        return self._cells[:, : self._dim + 1]
+        """Corner node indices of each cell, (m, dim + 1), C-contiguous and read-only.
+
+        One memory layout for P1 and P2 meshes alike, so a compiled kernel
+        reading the corners needs one specialisation.
+        """
+        if self._cells.shape[1] == self._dim + 1:
+            return self._cells
+        corners = np.ascontiguousarray(self._cells[:, : self._dim + 1])
+        corners.flags.writeable = False
+        return corners
 
     @cached_property
     def bounds(self) -> np.ndarray:
@@ -334,7 +342,7 @@ class Mesh:
         centre, scale = self.frame
         scaled = (self._points - centre) / scale
         out = np.empty((self.n_cells, g + 1, g))
-        corners = np.ascontiguousarray(self.corners)
+        corners = self.corners
         in_parts(
             self.n_cells,
             threads(self.n_cells, self.n_cells),

@@ -336,3 +336,13 @@ def interp_grid(nx, ny):
     from interp import Grid
 
     return Grid((np.arange(nx, dtype=float), np.arange(ny, dtype=float)), {"z": np.zeros((nx, ny))})
+
+
+def test_prepare_compiles_ahead_then_finds_everything_cached():
+    first = run("prepare")
+    assert first.returncode == 0, first.stderr
+    assert first.stdout.startswith(("compiled ", "every kernel already compiled"))
+    second = run("prepare")  # the kernels compiled by the first run load from the cache
+    assert second.returncode == 0, second.stderr
+    assert second.stdout.startswith("every kernel already compiled")
+    assert second.stderr == ""

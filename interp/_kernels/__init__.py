@@ -18,21 +18,35 @@ cache where numba would (``__pycache__``) but stamps it with a hash of every
 ``.py`` file in the folder and of ``interp/_geometry.py``, so an edit to any
 of them recompiles every kernel on next use, and nothing has to be deleted by
 hand.
+
+Compiling takes from a fraction of a second to several seconds per kernel,
+only on a kernel's first use after installation or an edit.  Before the
+first compile of a process, :func:`announce` prints one line on stderr
+(:data:`NOTICE`) so that a first run does not look hung; by default only
+when stderr is a terminal (an interactive session, the command line), never
+when it is piped or redirected, and :func:`set_announce` switches it on or
+off (the command line turns it off with ``--quiet``).  Loading a kernel from
+the cache compiles nothing and prints nothing.
 """
 
 from __future__ import annotations
 
 import hashlib
+import sys
+import threading
 from collections.abc import Callable
 from functools import cache
 from pathlib import Path
 
+from numba.core import event
 from numba.core.caching import CacheImpl, InTreeCacheLocator
 
 #: the folder of the kernels.
 FOLDER = Path(__file__).resolve().parent
 #: files whose contents the compiled kernels depend on.
 SOURCES = (FOLDER, FOLDER.parent / "_geometry.py")
+#: the line printed on stderr before the first compile of a process.
+NOTICE = "interp: preparing compiled kernels (first run only; `interp prepare` does it ahead)"
 
 
 def source_files() -> list[Path]:
@@ -94,3 +108,47 @@ class KernelCacheLocator(InTreeCacheLocator):
 
 if KernelCacheLocator not in CacheImpl._locator_classes:
     CacheImpl._locator_classes.insert(0, KernelCacheLocator)
+
+
+class _Announcer(event.Listener):
+    """numba compile listener: :data:`NOTICE` once, before the first kernel of this folder
+    is compiled (numba fires no compile event when it loads a kernel from the cache)."""
+
+    def __init__(self) -> None:
+        self.enabled: bool | None = None  # None: when stderr is a terminal
+        self.done = False
+        self.lock = threading.Lock()
+
+    def on_start(self, ev: event.Event) -> None:
+        if self.done or not ev.data["dispatcher"].py_func.__module__.startswith(__name__):
+            return
+        with self.lock:
+            if self.done:
+                return
+            self.done = True
+            shown = self.enabled if self.enabled is not None else sys.stderr.isatty()
+            if shown:
+                print(NOTICE, file=sys.stderr, flush=True)
+
+    def on_end(self, ev: event.Event) -> None:
+        pass
+
+
+_ANNOUNCER = _Announcer()
+event.register("numba:compile", _ANNOUNCER)
+
+
+def set_announce(enabled: bool | None) -> None:
+    """Whether to print :data:`NOTICE` before this process's first kernel compile.
+
+    Parameters
+    ----------
+    enabled : bool or None
+        True: always; False: never; None (the default): when stderr is a terminal.
+
+    Examples
+    --------
+    >>> set_announce(False)
+    >>> set_announce(None)
+    """
+    _ANNOUNCER.enabled = enabled

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._kernels.geometry import sort_small
 from interp._kernels.polygon import bin_index, inside
 
 
@@ -76,6 +77,18 @@ def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
+def _distinct(a):  # pragma: no cover
+    """Sort ``a`` and move its distinct values to the front (numpy's ``unique``); their count."""
+    sort_small(a)
+    n = 1
+    for i in range(1, a.size):
+        if a[i] != a[n - 1]:
+            a[n] = a[i]
+            n += 1
+    return n
+
+
+@numba.njit(cache=True, nogil=True)
 def cut_cells(
     tri, cand, lo, h, nx, ny, start, members, seg, row_start, row_members
 ):  # pragma: no cover
@@ -97,10 +110,10 @@ def cut_cells(
     for kk in range(cand.shape[0]):
         c = cand[kk]
         _ccw(tri[c], v)
-        i0 = bin_index((v[:, 0].min() - lo[0]) / h, nx)
-        i1 = bin_index((v[:, 0].max() - lo[0]) / h, nx)
-        j0 = bin_index((v[:, 1].min() - lo[1]) / h, ny)
-        j1 = bin_index((v[:, 1].max() - lo[1]) / h, ny)
+        i0 = bin_index((min(v[0, 0], v[1, 0], v[2, 0]) - lo[0]) / h, nx)
+        i1 = bin_index((max(v[0, 0], v[1, 0], v[2, 0]) - lo[0]) / h, nx)
+        j0 = bin_index((min(v[0, 1], v[1, 1], v[2, 1]) - lo[1]) / h, ny)
+        j1 = bin_index((max(v[0, 1], v[1, 1], v[2, 1]) - lo[1]) / h, ny)
         ns, nb = 0, 3
         xs[0], xs[1], xs[2] = v[0, 0], v[1, 0], v[2, 0]
         for j in range(j0, j1 + 1):
@@ -137,9 +150,8 @@ def cut_cells(
                 n += 1
             offsets[kk + 1] = n
             continue
-        bx = np.unique(xs[:nb])
-        for s in range(bx.shape[0] - 1):
-            at[0], at[1] = bx[s], bx[s + 1]
+        for s in range(_distinct(xs[:nb]) - 1):
+            at[0], at[1] = xs[s], xs[s + 1]
             at[2] = 0.5 * (at[0] + at[1])
             # rows of ys: y at the slab's left end, right end and middle of each boundary;
             # row 0 is the triangle's lower side, row 1 its upper side, then the edges
@@ -198,6 +210,15 @@ def cut_cells(
 
 
 @numba.njit(cache=True, nogil=True)
+def _same(p, q):  # pragma: no cover
+    """Whether the triangles p and q (3, 2) have the same corners in the same order."""
+    for i in range(3):
+        if p[i, 0] != q[i, 0] or p[i, 1] != q[i, 1]:
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
 def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
     """Whole inside triangles and the pieces of cut ones, in triangle order.
 
@@ -215,7 +236,7 @@ def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
             for q in range(offsets[kk], offsets[kk + 1]):
                 out[n] = pieces[q]
                 src[n] = c
-                whole[n] = single and np.all(pieces[q] == tri[c])
+                whole[n] = single and _same(pieces[q], tri[c])
                 n += 1
             kk += 1
 
@@ -255,8 +276,14 @@ def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     nb = b.shape[0]
     box = np.empty((nb, 4))
     for c in range(nb):
-        box[c, 0], box[c, 1] = b[c, :, 0].min(), b[c, :, 0].max()
-        box[c, 2], box[c, 3] = b[c, :, 1].min(), b[c, :, 1].max()
+        box[c, 0], box[c, 1] = (
+            min(b[c, 0, 0], b[c, 1, 0], b[c, 2, 0]),
+            max(b[c, 0, 0], b[c, 1, 0], b[c, 2, 0]),
+        )
+        box[c, 2], box[c, 3] = (
+            min(b[c, 0, 1], b[c, 1, 1], b[c, 2, 1]),
+            max(b[c, 0, 1], b[c, 1, 1], b[c, 2, 1]),
+        )
     stamp = np.full(nb, -1, dtype=np.int64)
     poly = np.empty((32, 2))
     work = np.empty((32, 2))
@@ -267,8 +294,8 @@ def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     n = 0
     for c in range(a.shape[0]):
         _ccw(a[c], u)
-        x0, x1 = u[:, 0].min(), u[:, 0].max()
-        y0, y1 = u[:, 1].min(), u[:, 1].max()
+        x0, x1 = min(u[0, 0], u[1, 0], u[2, 0]), max(u[0, 0], u[1, 0], u[2, 0])
+        y0, y1 = min(u[0, 1], u[1, 1], u[2, 1]), max(u[0, 1], u[1, 1], u[2, 1])
         i0 = int(max(np.floor((x0 - lo[0]) / h[0]), 0.0))
         i1 = int(min(np.floor((x1 - lo[0]) / h[0]), shape[0] - 1.0))
         j0 = int(max(np.floor((y0 - lo[1]) / h[1]), 0.0))

@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR, ONE_SIDED
+from interp._kernels.geometry import sort_small
 
 
 @numba.njit(cache=True, nogil=True)
@@ -38,6 +39,7 @@ def _node_gradient(
     order the neighbour lists come in; a leave-one-out refit, whose lists
     are built differently, then takes the same decisions.
     """
+    # the degrees as int64, not literals: one compiled _local_fit for both
     members[0] = node
     mark[node] = stamp
     count = _add_ring(node, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, 1)
@@ -45,19 +47,19 @@ def _node_gradient(
         grad[:] = np.nan
         return
     ring1 = count
-    members[1:count].sort()
+    sort_small(members[1:count])
     if not _one_sided(x, node, members, count) and (
-        _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND
+        _local_fit(x, v, node, members, count, np.int64(2), grad) >= MIN_RCOND
     ):
         return
     for r in range(1, ring1):
         count = _add_ring(
             members[r], ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
         )
-    members[1:count].sort()
-    if count > ring1 and _local_fit(x, v, node, members, count, 2, grad) >= MIN_RCOND:
+    sort_small(members[1:count])
+    if count > ring1 and _local_fit(x, v, node, members, count, np.int64(2), grad) >= MIN_RCOND:
         return
-    if _local_fit(x, v, node, members, count, 1, grad) < MIN_RCOND_LINEAR:
+    if _local_fit(x, v, node, members, count, np.int64(1), grad) < MIN_RCOND_LINEAR:
         grad[:] = np.nan
 
 

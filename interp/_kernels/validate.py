@@ -7,7 +7,7 @@ import numpy as np
 
 from interp._geometry import EMPTY, FLAT, TOLERANCE
 from interp._kernels.fit import node_gradient
-from interp._kernels.geometry import inverse_into
+from interp._kernels.geometry import inverse_into, sort_small
 
 
 @numba.njit(cache=True, nogil=True)
@@ -17,12 +17,13 @@ def leave_one_out(
     """For every vertex p: the cell of Delaunay(link of p) holding p, and (P2) corner gradients.
 
     Writes ``tri[p]`` (vertex ids, left -1 when p is outside its link's hull
-    or the cell is masked) and ``bary[p]``; when ``grad`` has rows, the
-    recovered gradients at the corners of that cell with p removed.
+    or the cell is masked) and ``bary[p]``; when ``grad`` is an array (P2),
+    the recovered gradients at the corners of that cell with p removed.  With
+    ``grad=None`` (P1) numba prunes the gradient branch at compile time, so
+    the P1 specialisation compiles none of the gradient kernels.
     """
     n, d = x.shape
     r = d + 1
-    p2 = grad.shape[0] > 0
     mark = np.full(n, -1, dtype=np.int64)
     local = np.zeros(n, dtype=np.int64)
     link = np.empty(n, dtype=np.int64)
@@ -72,7 +73,7 @@ def leave_one_out(
         for i in range(r):
             tri[p, i] = link[best[i]]
             bary[p, i] = best_lam[i]
-        if p2:
+        if grad is not None:
             new, n_new = _star_cells(
                 y, best, _boundary(cells, vc_idx[vc_ptr[p] : vc_ptr[p + 1]], p, local)
             )
@@ -198,7 +199,7 @@ def _boundary(cells, star_cells, p, local):  # pragma: no cover
             if q != p:
                 out[s, j] = local[q]
                 j += 1
-        out[s].sort()
+        sort_small(out[s])
     return out
 
 
@@ -228,7 +229,7 @@ def _star_cells(y, first, boundary):  # pragma: no cover
                 continue
             cand[: r - 1] = face
             cand[r - 1] = e
-            cand.sort()
+            sort_small(cand)
             if _has_row(cells, count, cand):
                 continue
             if count == cells.shape[0]:
@@ -274,8 +275,10 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     else:
         a = y[face[1]] - g0
         b = y[face[2]] - g0
-        nrm[:] = np.cross(a, b)
-        c0[:] = g0 + np.cross(np.sum(a**2) * b - np.sum(b**2) * a, nrm) / (2.0 * np.sum(nrm**2))
+        _cross(a, b, nrm)
+        w = np.sum(a**2) * b - np.sum(b**2) * a
+        _cross(w, nrm, c0)
+        c0[:] = g0 + c0 / (2.0 * np.sum(nrm**2))
     side, size, r0 = 0.0, 0.0, 0.0
     for a in range(d):
         side += nrm[a] * (y[opposite, a] - c0[a])
@@ -296,6 +299,14 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
         if t < best_t:
             best, best_t = e, t
     return best
+
+
+@numba.njit(cache=True, nogil=True)
+def _cross(a, b, out):  # pragma: no cover
+    """The cross product of the 3-vectors a and b into ``out`` (numpy's formula)."""
+    out[0] = a[1] * b[2] - a[2] * b[1]
+    out[1] = a[2] * b[0] - a[0] * b[2]
+    out[2] = a[0] * b[1] - a[1] * b[0]
 
 
 @numba.njit(cache=True, nogil=True)
