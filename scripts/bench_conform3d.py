@@ -18,26 +18,15 @@ that finds no flat cell; for a lattice it is the whole repair.
 from __future__ import annotations
 
 import sys
-import time
 
 import numpy as np
 from scipy.spatial import Delaunay
+from timing import best_of_each
 
 import interp
 from interp._conform3d import conform
 from interp._geometry import simplex_geometry
 from interp._triangulate import _delaunay, _normalised
-
-
-def best_of(rounds: int, *fns):
-    """Best wall time of each function over interleaved rounds."""
-    best = [np.inf] * len(fns)
-    for _ in range(rounds):
-        for i, fn in enumerate(fns):
-            t = time.perf_counter()
-            fn()
-            best[i] = min(best[i], time.perf_counter() - t)
-    return best
 
 
 def lattice(n: int, h: float = 1.0, offset: float | np.ndarray = 0.0) -> np.ndarray:
@@ -50,10 +39,10 @@ def bench_case(name: str, pts: np.ndarray, rounds: int) -> dict:
     x, _ = _normalised(pts)
     cells, qhull, _ = _delaunay(x)
     vol, size = simplex_geometry(x[cells])
-    t_ours, t_scipy = best_of(
-        rounds, lambda: interp.triangulate(pts), lambda: Delaunay(_normalised(pts)[0])
+    t_ours, t_scipy = best_of_each(
+        [lambda: interp.triangulate(pts), lambda: Delaunay(_normalised(pts)[0])], rounds
     )
-    (t_repair,) = best_of(rounds, lambda: conform(pts, x, cells, vol, size, *qhull))
+    (t_repair,) = best_of_each([lambda: conform(pts, x, cells, vol, size, *qhull)], rounds)
     mesh = interp.triangulate(pts)
     return {
         "case": name,

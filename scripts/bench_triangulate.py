@@ -25,6 +25,7 @@ from functools import partial
 
 import numpy as np
 from scipy.spatial import Delaunay
+from timing import best_of_each
 
 from interp._delaunay2d import constrained2d, delaunay2d
 
@@ -63,17 +64,6 @@ CASES = {
     "clustered": clustered,
     "jittered grid": jittered_grid,
 }
-
-
-def interleaved(fns: list, rounds: int) -> list[float]:
-    """Best wall time of each function over ``rounds`` interleaved rounds."""
-    best = [np.inf] * len(fns)
-    for _ in range(rounds):
-        for i, fn in enumerate(fns):
-            t = time.perf_counter()
-            fn()
-            best[i] = min(best[i], time.perf_counter() - t)
-    return best
 
 
 def breaklines(pts: np.ndarray, n_segments: int, rng: np.random.Generator) -> tuple:
@@ -116,10 +106,10 @@ def run(small: bool) -> list[tuple[str, float, float, str]]:
     for name, make in CASES.items():
         pts = make(n, rng)
         centred = pts - pts.mean(axis=0)
-        ours, ref = interleaved([partial(delaunay2d, pts), partial(Delaunay, centred)], rounds)
+        ours, ref = best_of_each([partial(delaunay2d, pts), partial(Delaunay, centred)], rounds)
         rows.append((f"{name}, {len(pts):,} points", ours, ref, ""))
     pts, seg = breaklines(random_points(n, rng), 10_000, rng)
-    plain, cons = interleaved([lambda: delaunay2d(pts), lambda: constrained2d(pts, seg)], rounds)
+    plain, cons = best_of_each([lambda: delaunay2d(pts), lambda: constrained2d(pts, seg)], rounds)
     rows.append(
         (
             f"{len(seg):,} breakline segments on {len(pts):,} points",
