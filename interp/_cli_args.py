@@ -188,7 +188,7 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         max_edge=args.max_edge,
         boundary=region_of(args.boundary),
         breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
-        field=args.field,
+        name=args.field,
         **las_options(args, path or args.source),
         units=args.units,
     )

@@ -228,7 +228,7 @@ def region_measure(region: Region | None) -> float | None:
         return None
     parts = region.regions if isinstance(region, Intersection) else (region,)
     if len(parts) == 1 and not isinstance(parts[0], LevelSet):
-        size = parts[0].measure
+        size = parts[0].measure()
         return size if np.isfinite(size) else None
     level = next((r for r in parts if isinstance(r, LevelSet)), None)
     if level is not None:

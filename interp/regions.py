@@ -22,6 +22,7 @@ import numpy as np
 
 from interp._arrays import as_points
 from interp._geometry import ZERO_AREA, check_fills_space
+from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import EdgeGrid, as_ring, contains, first_crossing, ring_area, ring_edges
@@ -40,9 +41,10 @@ class Region:
 
     gdim: int
 
-    def contains(self, points: object) -> np.ndarray:
-        """Whether each of the (n, gdim) points lies in the region (boundary included)."""
-        return self._contains(as_points(points, "points", gdim=self.gdim))
+    @renamed(points="query")
+    def contains(self, query: object) -> np.ndarray:
+        """Whether each of the (n, gdim) query points lies in the region (boundary included)."""
+        return self._contains(as_points(query, "query points", gdim=self.gdim))
 
     def _contains(self, points: np.ndarray) -> np.ndarray:
         raise NotImplementedError
@@ -52,7 +54,6 @@ class Region:
         """Bounding box (2, gdim) of the region, row 0 minima, row 1 maxima; None if unbounded."""
         return None
 
-    @property
     def measure(self) -> float:
         """Length, area or volume of the region."""
         raise InterpError(
@@ -156,7 +157,6 @@ class Polygon(Region):
     def bounds(self) -> np.ndarray:
         return self._bounds.copy()
 
-    @property
     def measure(self) -> float:
         """The area: shoelace area of the exterior minus that of the holes."""
         return self.area
@@ -176,7 +176,7 @@ class Box(Region):
     --------
     >>> from interp import Box
     >>> b = Box([0, 0, 0], [1, 2, 3])
-    >>> b.measure
+    >>> b.measure()
     6.0
     >>> b.contains([[0.5, 1.0, 3.0], [0.5, 2.5, 1.0]]).tolist()
     [True, False]
@@ -206,7 +206,6 @@ class Box(Region):
     def bounds(self) -> np.ndarray:
         return np.array([self.lo, self.hi])
 
-    @property
     def measure(self) -> float:
         """Length, area or volume: the product of the side lengths."""
         return float(np.prod(self.hi - self.lo))
@@ -240,7 +239,7 @@ class HalfSpace(Region):
     >>> below = HalfSpace([0, 0, 1], 10.0)
     >>> below.contains([[0, 0, 9.5], [0, 0, 10.5]]).tolist()
     [True, False]
-    >>> below.measure
+    >>> below.measure()
     inf
     """
 
@@ -258,7 +257,6 @@ class HalfSpace(Region):
     def __repr__(self) -> str:
         return f"HalfSpace({self.normal.tolist()}, {self.offset:g})"
 
-    @property
     def measure(self) -> float:
         """Infinite: a half-space is unbounded."""
         return float("inf")

@@ -223,7 +223,7 @@ def test_read_points_and_load_take_las(cloud):
     points, values = interp.read_points(d / "site.laz")
     assert np.array_equal(points, decimals(las)[:, :2])
     assert list(values) == ["z", "moisture", "wear"]
-    ground = interp.load(d / "site.las", classes=[2], every=2, field="z")["z"]
+    ground = interp.load(d / "site.las", classes=[2], every=2, name="z")["z"]
     keep = np.flatnonzero(np.asarray(las.classification) == 2)[::2]
     # a P1 fit interpolates its data points (common practice)
     node = decimals(las)[:, :2][keep[:5]]

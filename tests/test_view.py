@@ -229,7 +229,7 @@ def test_grid_2d_is_an_image_surface_with_nan_left_out():
     assert p.scalar_bar.GetLookupTable().GetRange() == pytest.approx((0.0, 4.0))
     left, right = red_minus_blue(image_of(p))
     assert right - left > 0.2
-    p = plot(Grid((x, y), {"z": z, "w": -z}), field="w", warp=1.0, window_size=SIZE)
+    p = plot(Grid((x, y), {"z": z, "w": -z}), name="w", warp=1.0, window_size=SIZE)
     pts = np.asarray(p.actors["surface"].mapper.dataset.points)
     ok = np.isfinite(pts[:, 2])
     assert pts[ok, 2] == pytest.approx(-pts[ok, 0])
@@ -270,11 +270,11 @@ def test_mesh_file_is_read_and_its_field_chosen(tmp_path):
             point_data={"a": mesh.points[:, 0], "b": 5 + mesh.points[:, 1]},
         ),
     )
-    p = plot(path, field="b", window_size=SIZE)
+    p = plot(path, name="b", window_size=SIZE)
     assert p.scalar_bar.GetLookupTable().GetRange() == pytest.approx((5.0, 6.0))
     p.close()
     with pytest.raises(interp.InterpError, match=r"no field named 'c'; available: a, b"):
-        plot(path, field="c")
+        plot(path, name="c")
 
 
 def test_bad_input_gives_clear_errors(tmp_path):
@@ -288,9 +288,9 @@ def test_bad_input_gives_clear_errors(tmp_path):
     with pytest.raises(interp.InterpError, match=r"shape \(3, 2\) but the axes give \(3, 3\)"):
         plot(Grid((x, x), {"z": np.zeros((3, 2))}))
     with pytest.raises(interp.InterpError, match=r"no field named 'q'; available: z, w"):
-        plot(Grid((x, x), {"z": np.zeros((3, 3)), "w": np.ones((3, 3))}), field="q")
+        plot(Grid((x, x), {"z": np.zeros((3, 3)), "w": np.ones((3, 3))}), name="q")
     with pytest.raises(interp.InterpError, match="no field named 'z'; available: none"):
-        plot(square_mesh(1), field="z")
+        plot(square_mesh(1), name="z")
     with pytest.raises(interp.InterpError, match="warp needs a field"):
         plot(square_mesh(1), warp=1.0)
     cube = interp.Field(cube_mesh(1), np.zeros(8))

@@ -7,6 +7,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import as_ring
@@ -27,10 +28,11 @@ DIVERGING_CMAP = "RdBu_r"
 MAX_LEVELS = 100
 
 
+@renamed(field="name")
 def plot(
     obj: object,
     *,
-    field: str | None = None,
+    name: str | None = None,
     warp: float | None = None,
     contours: int | list[float] | None = None,
     edges: bool = False,
@@ -52,8 +54,9 @@ def plot(
     obj : Field, Mesh, Grid, str or Path
         What to draw.  A path is read with :func:`interp.io.read`; a Mesh without
         a field, or a file without point data, draws the mesh edges.
-    field : str, optional
-        Which field of a Grid or file to draw (default the first).
+    name : str, optional
+        Which field of a Grid or file to draw, by name (default the first).
+        (``field=`` is the old spelling of this keyword.)
     warp : float, optional
         2D data only: lift the surface to z = warp * value (vertical
         exaggeration; negative to draw depths downwards).
@@ -106,7 +109,7 @@ def plot(
     (0.0, 1.0)
     >>> p.close()
     """
-    scene = scene_of(obj, field)
+    scene = scene_of(obj, name)
     plotter = new_plotter(window_size, off_screen)
     try:
         _draw(
@@ -145,7 +148,7 @@ def show(obj: object, *, screenshot: str | Path | None = None, **options: Any) -
         opening a window.  Without a display the picture is always written,
         by default to ``interp-view.png`` in the current folder.
     **options
-        The keywords of :func:`plot` (field, warp, contours, edges, points,
+        The keywords of :func:`plot` (name, warp, contours, edges, points,
         region, slices, isosurfaces, window_size, cmap, clim, diverging,
         title) except off_screen.
 
