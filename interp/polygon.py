@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from interp._geometry import cross_z
 from interp._kernels.polygon import first_pair, inside_many, visit_edges
 from interp.errors import InterpError
 
@@ -148,6 +149,52 @@ class EdgeGrid:
             out,
         )
         return out
+
+    def crossings(self, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Where segments a -> b (rows of (n, 2) arrays) cross the grid's segments.
+
+        Returns, for each crossing, the row of ``a``/``b`` that crosses and the
+        parameter t in (0, 1) of the crossing along it (a touch at either end
+        of that row is not a crossing).  Only pairs sharing a bucket are tested.
+
+        Examples
+        --------
+        >>> sq = np.array([[0.0, 0], [2, 0], [2, 2], [0, 2]])
+        >>> grid = EdgeGrid(ring_edges([sq])[0])
+        >>> a, b = np.array([[1.0, 1.0], [3.0, 3.0]]), np.array([[3.0, 1.0], [4.0, 3.0]])
+        >>> s, t = grid.crossings(a, b)
+        >>> s.tolist(), t.tolist()
+        ([0], [0.5])
+        """
+        nx, ny = int(self.shape[0]), int(self.shape[1])
+        lo_xy = (np.minimum(a, b) - self.lo) / self.h
+        hi_xy = (np.maximum(a, b) - self.lo) / self.h
+        near = np.flatnonzero((hi_xy >= 0).all(axis=1) & (lo_xy[:, 0] <= nx) & (lo_xy[:, 1] <= ny))
+        i0 = np.clip(np.floor(lo_xy[near, 0]), 0, nx - 1).astype(np.int64)
+        i1 = np.clip(np.floor(hi_xy[near, 0]), 0, nx - 1).astype(np.int64)
+        j0 = np.clip(np.floor(lo_xy[near, 1]), 0, ny - 1).astype(np.int64)
+        j1 = np.clip(np.floor(hi_xy[near, 1]), 0, ny - 1).astype(np.int64)
+        wide = i1 - i0 + 1
+        n_buckets = wide * (j1 - j0 + 1)
+        owner = np.repeat(np.arange(len(near)), n_buckets)
+        k = np.arange(len(owner)) - np.repeat(np.cumsum(n_buckets) - n_buckets, n_buckets)
+        bucket = (j0[owner] + k // wide[owner]) * nx + i0[owner] + k % wide[owner]
+        n_members = self.start[bucket + 1] - self.start[bucket]
+        pair_seg = np.repeat(near[owner], n_members)
+        k = np.arange(len(pair_seg)) - np.repeat(np.cumsum(n_members) - n_members, n_members)
+        pair_edge = self.members[np.repeat(self.start[bucket], n_members) + k]
+        n_edges = len(self.segments)
+        key = np.unique(pair_seg * n_edges + pair_edge)
+        s, e = np.divmod(key, n_edges)
+        p, r = a[s], b[s] - a[s]
+        q, d = self.segments[e, :2], self.segments[e, 2:] - self.segments[e, :2]
+        w = q - p
+        denom = cross_z(r, d)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = cross_z(w, d) / denom
+            u = cross_z(w, r) / denom
+            hit = (denom != 0) & (t > 0) & (t < 1) & (u >= 0) & (u <= 1)
+        return s[hit], t[hit]
 
 
 def contains(rings: list[np.ndarray], points: np.ndarray) -> np.ndarray:

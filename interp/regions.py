@@ -162,11 +162,12 @@ class Polygon(Region):
         return self.area
 
     @cached_property
-    def _grid(self) -> EdgeGrid:
+    def edge_grid(self) -> EdgeGrid:
+        """The polygon's edges in a bucket grid (inside and crossing tests), built once."""
         return EdgeGrid(ring_edges(self.rings)[0])
 
     def _contains(self, points: np.ndarray) -> np.ndarray:
-        return self._grid.contains(points)
+        return self.edge_grid.contains(points)
 
 
 class Box(Region):

@@ -24,7 +24,7 @@ import numpy as np
 
 from interp._arrays import is_dask
 from interp.errors import InterpError
-from interp.io._atomic import atomic_path, move_into_place
+from interp.io._atomic import atomic_path, move_into_place, refuse_folder
 from interp.io._writer import write_table
 
 #: name stored in a Zarr store's attributes to mark a grid written by :func:`save_zarr`.
@@ -120,6 +120,8 @@ def save_grid(grid: GridLike, path: str | Path) -> Path:
     path = Path(path)
     suffix = path.suffix.lower()
     writer = GRID_WRITERS.get(suffix)
+    if suffix != ".zarr":  # a Zarr store is a folder
+        refuse_folder(path, ".tif")
     if writer is None:
         raise InterpError(f"cannot save a grid as {path.name!r}: use {', '.join(GRID_WRITERS)}")
     if suffix != ".csv":
