@@ -719,3 +719,12 @@ def test_fuzz_edits_of_a_valid_file(tmp_path_factory, edits):
 @given(tokens=st.lists(st.sampled_from(TOKENS), max_size=40))
 def test_fuzz_tokens_after_a_header(tmp_path_factory, tokens):
     _read_both(tmp_path_factory.getbasetemp(), b"x,y,ring\n" + b"".join(tokens))
+
+
+def test_a_body_of_byte_order_marks_is_no_data(tmp_path):
+    # found by the fuzz test above: a stray UTF-8 byte-order mark as the only row
+    path = tmp_path / "bom.csv"
+    path.write_bytes(b"x,y,ring\n\xef\xbb\xbf\n")
+    for reader in (interp.read_points, interp.read_polygon):
+        with pytest.raises(InterpError, match="bom.csv: no data rows below the header"):
+            reader(path)
