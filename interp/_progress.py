@@ -76,8 +76,12 @@ def task(label: str, total: int | None = None, unit: str = "") -> Iterator[Calla
         return
     from tqdm import tqdm
 
+    counted = f"{{n_fmt}}/{{total_fmt}} {unit or 'stages'}"
     with tqdm(
         total=total,
+        bar_format=None
+        if total is None
+        else f"{{l_bar}}{{bar}}| {counted} [{{elapsed}}<{{remaining}}]",
         desc=f"interp: {label}",
         unit=f" {unit}" if unit else " stages",
         unit_scale=bool(unit),
