@@ -395,10 +395,11 @@ def _insert_all(
         return tri, nbr, 0, same, k.COLLINEAR
     ntri, last = 4, 0
     with task("triangulating", total=len(x), unit="points") as advance:
+        advance(2)  # points 0 and 1, in the first triangle
         for lo in range(2, len(x), SLICE):
             hi = min(len(x), lo + SLICE)
             ntri, last = k.insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi)
-            advance(hi - lo + (2 if lo == 2 else 0))
+            advance(hi - lo)
     return tri, nbr, ntri, same, k.OK
 
 

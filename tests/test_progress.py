@@ -160,3 +160,22 @@ def test_a_line_goes_above_the_bar(monkeypatch):
             _progress.enable(False)
     assert "interp: a note" in pieces(err.getvalue())
     assert any(p.startswith("interp: counting: 100%|") for p in pieces(err.getvalue()))
+
+
+def test_slices_do_not_change_results(monkeypatch):
+    """The chunked kernels give bit for bit what one call over every point gives
+    (the slice length set to cover all the points in one call, then to a few)."""
+    import interp
+    from interp import _delaunay2d, _fit, _validate
+
+    rng = np.random.default_rng(5)
+    pts = rng.random((700, 2))
+    z = np.sin(3 * pts[:, 0]) + pts[:, 1] ** 2
+    runs = []
+    for size in (10**6, 37):
+        for module in (_delaunay2d, _fit, _validate):
+            monkeypatch.setattr(module, "SLICE", size)
+        f = interp.fit(pts, z, order=2)
+        runs.append((_delaunay2d.delaunay2d(pts), f.values, interp.crossvalidate(pts, z, order=2)))
+    for whole, sliced in zip(*runs, strict=True):
+        np.testing.assert_array_equal(whole, sliced)
