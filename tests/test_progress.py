@@ -179,3 +179,19 @@ def test_slices_do_not_change_results(monkeypatch):
         runs.append((_delaunay2d.delaunay2d(pts), f.values, interp.crossvalidate(pts, z, order=2)))
     for whole, sliced in zip(*runs, strict=True):
         np.testing.assert_array_equal(whole, sliced)
+
+
+def test_las_reading_counts_the_header_points(tmp_path):
+    laspy = pytest.importorskip("laspy")
+    rng = np.random.default_rng(3)
+    las = laspy.LasData(laspy.LasHeader(point_format=3, version="1.4"))
+    xy = rng.random((300, 2)) * 40.0
+    las.x, las.y, las.z = xy[:, 0], xy[:, 1], 5.0 + 0.1 * xy[:, 0]
+    las.write(tmp_path / "cloud.las")
+    code, _, err = run(["crossval", tmp_path / "cloud.las"])
+    assert code == 0, err
+    # the bar's total is the header's point count, 300 as written
+    assert any(
+        p.startswith("interp: reading cloud.las: 100%|") and "| 300/300 points [" in p
+        for p in pieces(err)
+    ), err
