@@ -22,10 +22,13 @@ import numpy as np
 from interp._arrays import as_points, check_finite
 from interp._kernels import constrain2d as kc
 from interp._kernels import delaunay2d as k
+from interp._progress import task
 from interp.errors import InterpError
 from interp.polygon import as_ring, contains, first_crossing
 
 SEED = 20261203  # fixed: the insertion order, hence the triangulation, is reproducible
+#: points inserted per call of the insertion kernel (about 0.1 s each).
+SLICE = 1 << 17
 
 
 def delaunay2d(points: object, *, repeats: bool = False) -> np.ndarray:
@@ -162,7 +165,7 @@ def constrained2d(
     order = insertion_order(allpts)
     x = allpts[order, 0]
     y = allpts[order, 1]
-    tri, nbr, ntri, same, status = k.delaunay(x, y)
+    tri, nbr, ntri, same, status = _insert_all(x, y)
     if status == k.COLLINEAR:
         _triangulate(pts)  # raises the message of the unconstrained case
     vertex, canon = _merged(order, same, n)
@@ -380,6 +383,26 @@ def insertion_order(pts: np.ndarray) -> np.ndarray:
     return np.argsort(keys)
 
 
+def _insert_all(
+    x: np.ndarray, y: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, int, np.ndarray, int]:
+    """Delaunay triangulation of points inserted in the given order, in slices of
+    :data:`SLICE` points (the steps of the progress bar; the result does not depend
+    on them).  Returns ``(tri, nbr, ntri, same, status)`` (see
+    :func:`interp._kernels.delaunay2d.insert`)."""
+    tri, nbr, mark, start_of, same, third = k.first_triangle(x, y)
+    if third < 0:
+        return tri, nbr, 0, same, k.COLLINEAR
+    ntri, last = 4, 0
+    with task("triangulating", total=len(x), unit="points") as advance:
+        advance(2)  # points 0 and 1, in the first triangle
+        for lo in range(2, len(x), SLICE):
+            hi = min(len(x), lo + SLICE)
+            ntri, last = k.insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi)
+            advance(hi - lo)
+    return tri, nbr, ntri, same, k.OK
+
+
 def _triangulate(
     pts: np.ndarray, repeats: bool = False
 ) -> tuple[np.ndarray, np.ndarray, int, np.ndarray]:
@@ -387,7 +410,7 @@ def _triangulate(
     order = insertion_order(pts)
     x = pts[order, 0]
     y = pts[order, 1]
-    tri, nbr, ntri, same, status = k.delaunay(x, y)
+    tri, nbr, ntri, same, status = _insert_all(x, y)
     if status == k.COLLINEAR:
         raise InterpError(
             "the points are collinear: a 2D triangulation needs points spread in 2 "

@@ -48,11 +48,15 @@ from interp._arrays import as_points, positive
 from interp._fit import midpoint, neighbours, samples
 from interp._geometry import short_cells
 from interp._kernels.validate import leave_one_out
+from interp._progress import task
 from interp._triangulate import inside_boundary, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
 from interp.io import write_table
 from interp.mesh import Mesh
+
+#: points done per call of the leave-one-out kernel (a step of the progress bar).
+SLICE = 4096
 
 
 def crossvalidate(
@@ -145,7 +149,31 @@ def crossvalidate(
     grad = np.full((len(x) if order == 2 else 0, d + 1, d, data.mean.shape[1]), np.nan)
     vc_ptr, vc_idx = _vertex_cells(cells, len(x))
     p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
-    leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, p2_grad)
+    scratch = np.zeros((4, len(x)), dtype=np.int64)
+    scratch[0] = -1
+    stamp = 0
+    with task("leave-one-out", total=len(x), unit="points") as advance:
+        for lo in range(0, len(x), SLICE):
+            hi = min(len(x), lo + SLICE)
+            stamp = leave_one_out(
+                x,
+                data.mean,
+                cells,
+                kept,
+                vc_ptr,
+                vc_idx,
+                ptr,
+                idx,
+                limit,
+                tri,
+                bary,
+                p2_grad,
+                lo,
+                hi,
+                scratch,
+                stamp,
+            )
+            advance(hi - lo)
     if boundary is not None:
         # the cell of the others' triangulation that holds each point, masked as the fit's
         found = np.flatnonzero(tri[:, 0] >= 0)

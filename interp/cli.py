@@ -22,7 +22,6 @@ import interp
 from interp._breaklines import segment_lengths
 from interp._cli_args import (
     Parser,
-    Progress,
     count,
     emit,
     las_options,
@@ -38,6 +37,7 @@ from interp._cli_args import (
 from interp._cli_run import run
 from interp._format import decimals, number, table, unit_power
 from interp._kernels import set_announce
+from interp._progress import enable
 from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs, read_las_points
 from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
@@ -120,7 +120,6 @@ def info_grid(args: argparse.Namespace) -> None:
 
 def cmd_grid(args: argparse.Namespace) -> None:
     fields = open_source(args)
-    stage(args, "evaluating the grid")
     bounds = None if args.bounds is None else corner_bounds(args.bounds)
     grid = interp.to_grid(fields, spacing=args.spacing, bounds=bounds)
     if not any((~np.isnan(v)).any() for v in grid.fields.values()):
@@ -137,7 +136,7 @@ def cmd_grid(args: argparse.Namespace) -> None:
                 "write .tif or .nc to keep it",
                 stacklevel=1,
             )
-    stage(args, f"writing {args.output}")
+    stage(f"writing {args.output}")
     out = grid.save(args.output)
     inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
     stored = ""
@@ -152,13 +151,12 @@ def cmd_grid(args: argparse.Namespace) -> None:
 
 def cmd_sample(args: argparse.Namespace) -> None:
     fields = open_source(args)
-    progress = Progress("sampled", args.quiet)
     with ExitStack() as stack:
         evaluate = None
         if args.workers is not None or args.scheduler is not None:
             from interp.parallel import evaluator
 
-            stage(args, "starting the dask workers")
+            stage("starting the dask workers")
             evaluate = stack.enter_context(evaluator(args.workers, args.scheduler))
         report = sample_file(
             fields,
@@ -166,10 +164,8 @@ def cmd_sample(args: argparse.Namespace) -> None:
             args.output,
             coords=args.coords,
             chunk_rows=args.chunk_rows,
-            progress=progress,
             evaluate=evaluate,
         )
-    progress.close()
     renamed = {c: o for c, o in report.columns.items() if c != o}
     if args.json:
         result = {
@@ -314,7 +310,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     beyond = ~region.contains(points) if region is not None else np.zeros(len(points), bool)
     result, lines, residuals = {}, [], {}
     for name, v in values.items():
-        stage(args, f"leave-one-out residuals of {name}")
+        stage(f"leave-one-out residuals of {name}")
         residuals[name] = interp.crossvalidate(
             points, v, order=args.order, max_edge=args.max_edge, boundary=region
         )
@@ -355,7 +351,7 @@ def cmd_contour(args: argparse.Namespace) -> None:
     if (args.interval is None) == (args.levels is None):
         raise interp.InterpError("give the contour levels with --interval STEP or --levels A,B,C")
     field = first_field(open_source(args))
-    stage(args, "tracing contours")
+    stage("tracing contours")
     lines = interp.contours(
         field,
         args.levels,
@@ -578,8 +574,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     interp 0.1.0
     """
     args = build_parser().parse_args(argv)
-    if getattr(args, "quiet", False):
+    quiet = getattr(args, "quiet", False)
+    if quiet:
         set_announce(False)
+    # live bars of the long steps, on a terminal only (never piped, never with --quiet)
+    enable(not quiet and sys.stderr.isatty())
     return run(args)
 
 

@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from interp._fit import fit
+from interp._progress import task
 from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
@@ -281,7 +282,6 @@ def sample_file(
     *,
     coords: Sequence[str] = ("x", "y"),
     chunk_rows: int = 500_000,
-    progress: Callable[[int], None] | None = None,
     evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
 ) -> SampleReport:
     """Evaluate fields at the points of a query file, streaming it in chunks.
@@ -331,6 +331,7 @@ def sample_file(
     rows = outside = 0
     sampled = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
+        advance = stack.enter_context(task("sampling", unit="rows"))
         writer = None
         blocks = _query_blocks(query, coords, chunk_rows)
         for head, delimiter, text, points, lead, numeric in blocks:
@@ -357,8 +358,7 @@ def sample_file(
             block = np.column_stack(table)
             writer.write(text, block if lead is None else np.hstack([lead, block]))
             rows += len(points)
-            if progress:
-                progress(rows)
+            advance(len(points))
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
     checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
