@@ -36,7 +36,7 @@ DIVERGING_CMAP = "RdBu_r"
 #: depth offsets (in units of the depth buffer's resolution) of lines drawn over cell edges
 FRONT = {"breakline-halo": -20, "breaklines": -40}
 #: width and height of the legend, as fractions of the picture's
-LEGEND_SIZE = (0.2, 0.06)
+LEGEND_SIZE = (0.16, 0.05)
 #: the most contour levels or isosurfaces drawn: more would merge into a solid tint.
 MAX_LEVELS = 100
 
@@ -511,7 +511,7 @@ def _draw(
             name="legend",
         )
         # bottom right, below the colour bar (pyvista's corners let it overhang the picture)
-        legend.SetPosition(0.99 - LEGEND_SIZE[0], 0.02)
+        legend.SetPosition(0.98 - LEGEND_SIZE[0], 0.02)
     if points is not None and points is not False:
         plotter.add_mesh(
             pv.PolyData(_markers(scene, points, warp)),
