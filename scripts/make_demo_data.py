@@ -132,7 +132,11 @@ def bay_lines() -> list[np.ndarray]:
     hips = [np.vstack([crest_ring[c], toe_ring[c]]) for c in range(4)]
     x0, _, x1, _ = BAY_AREA
     toe_y, top_y, behind = WALL
-    wall = [np.array([[x0, y, z], [x1, y, z]]) for y, z in ((toe_y, SLAB), (top_y, behind))]
+    along = np.linspace(x0, x1, 9)  # the wall shot every 5 m
+    wall = [
+        np.column_stack([along, np.full(9, y), np.full(9, z)])
+        for y, z in ((toe_y, SLAB), (top_y, behind))
+    ]
     return [toe_ring, crest_ring, *hips, *wall]
 
 
