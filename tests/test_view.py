@@ -592,6 +592,9 @@ def test_breaklines_stand_apart_from_edges_region_and_colour_maps():
         light = max(samples, key=relative_luminance)
         assert contrast(line.color.float_rgb, dark) > 3
         assert contrast(halo.color.float_rgb, light) > 3
+    p = plot(f, breaklines=[], window_size=SIZE)  # no lines: nothing drawn, no legend
+    assert not {"breaklines", "breakline-halo", "legend"} & set(p.actors)
+    p.close()
     with pytest.raises(interp.InterpError, match="breaklines are drawn on 2D pictures only"):
         plot(interp.Field(cube_mesh(1), np.zeros(8)), breaklines=LINES, window_size=SIZE)
     with pytest.raises(interp.InterpError, match="line 0 has shape"):

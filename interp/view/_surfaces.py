@@ -382,7 +382,7 @@ def _polylines(scene: Scene, lines: list[np.ndarray], warp: float | None) -> pyv
             line = np.vstack([pieces, line[-1:]])
         z = np.zeros(len(line)) if warp is None else warp * _heights(scene, line)
         parts.append(pv.lines_from_points(np.column_stack([line, z])))
-    return pv.merge(parts) if len(parts) > 1 else parts[0]
+    return pv.merge(parts) if len(parts) > 1 else parts[0] if parts else pv.PolyData()
 
 
 def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
@@ -501,7 +501,7 @@ def _draw(
                 # breaklines run along cell edges: pull them (the line over its halo) to
                 # the front, or the lines would fight over the same depth
                 actor.mapper.SetRelativeCoincidentTopologyLineOffsetParameters(0, FRONT[name])
-    if breaklines is not None:
+    if "breaklines" in plotter.actors:
         legend = plotter.add_legend(
             [["breaklines", BREAKLINE_COLOUR]],
             bcolor="white",
