@@ -165,7 +165,7 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         order=args.order,
         max_edge=args.max_edge,
         boundary=region_of(args.boundary),
-        breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
+        breaklines=lines_of(args.breaklines),
         name=args.field,
         **las_options(args, path or args.source),
         units=args.units,
@@ -194,6 +194,10 @@ def region_of(path: Path | None) -> interp.Polygon | None:
         return interp.Polygon(rings[0], holes=rings[1:])
     except interp.InterpError as exc:
         raise interp.InterpError(f"{path}: {exc}") from None
+
+
+def lines_of(path: Path | None) -> list[np.ndarray] | None:
+    return None if path is None else interp.read_lines(path)
 
 
 def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:

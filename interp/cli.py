@@ -25,6 +25,7 @@ from interp._cli_args import (
     count,
     emit,
     las_options,
+    lines_of,
     numbers,
     open_source,
     places,
@@ -380,6 +381,7 @@ def cmd_view(args: argparse.Namespace) -> None:
         contours=args.contours,
         edges=args.edges,
         points=args.points or None,
+        breaklines=lines_of(args.breaklines),
         screenshot=args.screenshot,
         title=args.title,
     )
@@ -553,7 +555,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--warp", type=float, help="vertical exaggeration of the surface")
     p.add_argument("--contours", type=int, help="number of contour levels (1 to 100), labelled")
     p.add_argument("--title", help="title above the picture (default the field and its units)")
-    p.add_argument("--edges", action="store_true", help="draw cell edges")
+    p.add_argument(
+        "--edges",
+        action="store_true",
+        help="draw cell edges (the lines of --breaklines are drawn in magenta in any case)",
+    )
     p.add_argument("--points", action="store_true", help="draw the data points")
     p.add_argument("--screenshot", type=Path, help="write a PNG instead of opening a window")
     source_options(p)

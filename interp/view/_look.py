@@ -18,6 +18,9 @@ if TYPE_CHECKING:
 #: contour lines: a light line over a dark, wider halo, readable on the dark and the light
 #: ends of a colour map alike.
 CONTOUR_LIGHT, CONTOUR_DARK = "white", "#1a1a1a"
+#: breaklines: magenta, a hue of neither colour map (nor of the grey cell edges or the red
+#: region outline), over a dark halo that keeps them readable on the light end of the map.
+BREAKLINE_COLOUR, BREAKLINE_HALO = "#ff00ff", CONTOUR_DARK
 #: data point markers: small, dark and half transparent, so the surface shows through.
 MARKERS = {"color": "#1a1a1a", "point_size": 5, "opacity": 0.55}
 #: coordinates from this size on are shown relative to a round offset when their range is

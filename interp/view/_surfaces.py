@@ -7,12 +7,22 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from interp._breaklines import as_lines
 from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import as_ring
 from interp.view._difference import surface_difference, volumes_text
-from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, font, tick_decimals
+from interp.view._look import (
+    BREAKLINE_COLOUR,
+    BREAKLINE_HALO,
+    MARKERS,
+    add_contours,
+    axes_and_camera,
+    caption,
+    font,
+    tick_decimals,
+)
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
 from interp.view._scenes import Scene, scene_of
@@ -24,6 +34,10 @@ if TYPE_CHECKING:
 CMAP = "viridis"
 #: colour map for differences and residuals, centred on zero.
 DIVERGING_CMAP = "RdBu_r"
+#: depth offsets (in units of the depth buffer's resolution) of lines drawn over cell edges
+FRONT = {"breakline-halo": -20, "breaklines": -40}
+#: width and height of the legend, as fractions of the picture's
+LEGEND_SIZE = (0.16, 0.05)
 #: the most contour levels or isosurfaces drawn: more would merge into a solid tint.
 MAX_LEVELS = 100
 
@@ -38,6 +52,7 @@ def plot(
     edges: bool = False,
     points: bool | np.ndarray | None = None,
     region: object | None = None,
+    breaklines: object | None = None,
     slices: int | list | None = None,
     isosurfaces: int | list[float] | None = None,
     window_size: tuple[int, int] = (1200, 900),
@@ -72,6 +87,11 @@ def plot(
         it a warped marker sits on the surface.
     region : Polygon or array_like (p, 2), optional
         2D only: outline of a region (an :class:`interp.Polygon` or one ring).
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: breaklines (as :func:`interp.read_lines` returns them), drawn
+        in magenta over a dark halo, apart from the grey cell edges and the red
+        region outline, and named in a legend; a warped picture drapes them
+        on the surface.
     slices : int or list of (origin, normal), optional
         3D only: cut planes coloured by the field.  An int n gives n planes
         across the longest side of the bounding box.  A 3D grid shows three
@@ -120,6 +140,7 @@ def plot(
             edges=edges,
             points=points,
             region=region,
+            breaklines=breaklines,
             slices=slices,
             isosurfaces=isosurfaces,
             cmap=cmap,
@@ -149,8 +170,8 @@ def show(obj: object, *, screenshot: str | Path | None = None, **options: Any) -
         by default to ``interp-view.png`` in the current folder.
     **options
         The keywords of :func:`plot` (name, warp, contours, edges, points,
-        region, slices, isosurfaces, window_size, cmap, clim, diverging,
-        title) except off_screen.
+        region, breaklines, slices, isosurfaces, window_size, cmap, clim,
+        diverging, title) except off_screen.
 
     Returns
     -------
@@ -332,28 +353,39 @@ def _markers(scene: Scene, points: bool | object, warp: float | None) -> np.ndar
 
 
 def _region_lines(scene: Scene, region: object, warp: float | None) -> pyvista.PolyData:
-    import pyvista as pv
-
     if not scene.flat:
         raise InterpError("a region outline is drawn on 2D pictures only; this one is 3D")
     if hasattr(region, "exterior"):
         rings = [region.exterior, *region.holes]
     else:
         rings = [as_ring(region, "region")]
+    return _polylines(scene, [np.vstack([ring, ring[:1]]) for ring in rings], warp)
+
+
+def _breakline_lines(scene: Scene, breaklines: object, warp: float | None) -> pyvista.PolyData:
+    if not scene.flat:
+        raise InterpError("breaklines are drawn on 2D pictures only; this one is 3D")
+    return _polylines(scene, [line[:, :2] for line in as_lines(breaklines)], warp)
+
+
+def _polylines(scene: Scene, lines: list[np.ndarray], warp: float | None) -> pyvista.PolyData:
+    """Polylines (k, 2) in the plane of a flat picture, or draped on its warped surface
+    (split into pieces of 0.5% of the picture's width, so that they follow it)."""
+    import pyvista as pv
+
     parts = []
-    for ring in rings:
-        closed = np.vstack([ring, ring[:1]])
+    for line in lines:
         if warp is not None:
             step = 0.005 * float(np.ptp(scene.nodes[:, :2], axis=0).max())
-            seg = np.linalg.norm(np.diff(closed, axis=0), axis=1)
+            seg = np.linalg.norm(np.diff(line, axis=0), axis=1)
             n = np.maximum(1, np.ceil(seg / step).astype(np.int64))
             t = np.concatenate([np.arange(k) / k for k in n])
             start = np.repeat(np.arange(len(seg)), n)
-            closed = closed[start] + t[:, None] * (closed[start + 1] - closed[start])
-            closed = np.vstack([closed, closed[:1]])
-        z = np.zeros(len(closed)) if warp is None else warp * _heights(scene, closed)
-        parts.append(pv.lines_from_points(np.column_stack([closed, z])))
-    return pv.merge(parts) if len(parts) > 1 else parts[0]
+            pieces = line[start] + t[:, None] * (line[start + 1] - line[start])
+            line = np.vstack([pieces, line[-1:]])
+        z = np.zeros(len(line)) if warp is None else warp * _heights(scene, line)
+        parts.append(pv.lines_from_points(np.column_stack([line, z])))
+    return pv.merge(parts) if len(parts) > 1 else parts[0] if parts else pv.PolyData()
 
 
 def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
@@ -394,6 +426,7 @@ def _draw(
     edges: bool,
     points: bool | object | None,
     region: object | None,
+    breaklines: object | None,
     slices: int | list | None,
     isosurfaces: int | list[float] | None,
     cmap: str | None,
@@ -459,10 +492,29 @@ def _draw(
         lines["edges"] = (scene.edges, "#505050", 1.0)
     if region is not None:
         lines["region"] = (_region_lines(scene, region, warp), "red", 3.0)
+    if breaklines is not None:
+        drawn = _breakline_lines(scene, breaklines, warp)
+        lines["breakline-halo"] = (drawn, BREAKLINE_HALO, 5.5)
+        lines["breaklines"] = (drawn, BREAKLINE_COLOUR, 3.0)
     for name, (data, color, width) in lines.items():
         if data.n_points:
-            data = data if name == "region" else _lifted(data, warp)
-            plotter.add_mesh(data, name=name, color=color, line_width=width, lighting=False)
+            data = _lifted(data, warp) if name == "edges" else data
+            actor = plotter.add_mesh(data, name=name, color=color, line_width=width, lighting=False)
+            if name in FRONT:
+                # breaklines run along cell edges: pull them (the line over its halo) to
+                # the front, or the lines would fight over the same depth
+                actor.mapper.SetRelativeCoincidentTopologyLineOffsetParameters(0, FRONT[name])
+    if "breaklines" in plotter.actors:
+        legend = plotter.add_legend(
+            [["breaklines", BREAKLINE_COLOUR]],
+            bcolor="white",
+            border=True,
+            face="line",
+            size=LEGEND_SIZE,
+            name="legend",
+        )
+        # bottom right, below the colour bar (pyvista's corners let it overhang the picture)
+        legend.SetPosition(0.98 - LEGEND_SIZE[0], 0.02)
     if points is not None and points is not False:
         plotter.add_mesh(
             pv.PolyData(_markers(scene, points, warp)),
