@@ -319,8 +319,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
             points, v, order=args.order, max_edge=args.max_edge, boundary=region
         )
         residuals[name][beyond] = np.nan
-        stats = interp.residual_summary(points, residuals[name], worst=0)
-        del stats["worst"]
+        stats = interp.residual_summary(points, residuals[name])
         stats["outside_boundary"] = int(beyond.sum())
         result[name] = {**stats, "units": args.units}
         k = decimals(v)
