@@ -113,7 +113,8 @@ def info_grid(args: argparse.Namespace) -> None:
     for name, f in info["fields"].items():
         lines.append(
             f"field {name}: {f['components']} component(s), range "
-            f"{number(f['min'], 6)}..{number(f['max'], 6)}, {f['nan']:,} node(s) without data"
+            f"{number(f['min'], 6)}..{number(f['max'], 6)}{unit_suffix(f.get('units'))}, "
+            f"{f['nan']:,} node(s) without data"
         )
     emit(args, info, lines)
 
