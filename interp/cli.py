@@ -386,6 +386,7 @@ def cmd_view(args: argparse.Namespace) -> None:
         points=args.points or None,
         screenshot=args.screenshot,
         title=args.title,
+        coordinate_units=args.units,
     )
     if out is not None and not args.quiet:
         print(f"wrote {out}")
