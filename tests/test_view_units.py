@@ -9,6 +9,7 @@ from conftest import square_mesh
 from test_cli import run
 
 import interp
+from interp import Grid
 from interp.resample import Profile
 from interp.view import plot, plot_difference, plot_profile, plot_residuals
 
@@ -40,6 +41,25 @@ def test_surface_axes_carry_the_coordinate_units_beside_the_offset():
     p.close()
     p = plot_difference(survey_field(), 100.0, coordinate_units="m", window_size=SIZE)
     assert titles(p)[:2] == ("x - 512000 (m)", "y - 4180000 (m)")
+    p.close()
+
+
+def test_a_grid_with_a_projected_crs_states_its_unit():
+    pytest.importorskip("pyproj")
+    z = np.add.outer(np.arange(4.0), np.arange(3.0))
+    axes = (512000.0 + 2.0 * np.arange(4), 4180000.0 + 2.0 * np.arange(3))
+    # EPSG:32633 (UTM zone 33N) is in metres, EPSG:2264 (a state plane) in US survey feet,
+    # EPSG:4326 in degrees, which are no length (from the EPSG registry, through pyproj)
+    for crs, unit in (
+        ("EPSG:32633", " (m)"),
+        ("EPSG:2264", " (US survey foot)"),
+        ("EPSG:4326", ""),
+    ):
+        p = plot(Grid(axes, {"z": z}, {"z": "m"}, crs=crs), window_size=SIZE)
+        assert titles(p)[0] == f"x - 512000{unit}"
+        p.close()
+    p = plot(Grid(axes, {"z": z}, crs="EPSG:32633"), coordinate_units="ft", window_size=SIZE)
+    assert titles(p)[0] == "x - 512000 (ft)"
     p.close()
 
 

@@ -50,7 +50,7 @@ from interp.io._meshes import read, write
 from interp.io._polygons import read_polygon
 from interp.io._tables import PointChunk, iter_point_chunks, read_points, read_table
 from interp.io._writer import TableWriter, write_table
-from interp.io._xarray import grid_to_xarray, read_netcdf, write_netcdf
+from interp.io._xarray import crs_units, grid_to_xarray, read_netcdf, write_netcdf
 
 GRID_WRITERS.update(
     {
@@ -93,6 +93,7 @@ __all__ = [
     "TableWriter",
     "atomic_path",
     "component_names",
+    "crs_units",
     "field_columns",
     "grid_to_xarray",
     "is_las_file",

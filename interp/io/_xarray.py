@@ -27,15 +27,38 @@ if TYPE_CHECKING:
     import xarray
 
 
-def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
-    """CF grid-mapping attributes of a CRS and the CF attributes of its x, y axes."""
-    pyproj = require("pyproj", "xarray", "storing a coordinate reference system in a Dataset")
+def _parsed(crs: str) -> object:
+    """A CRS as pyproj reads it; an unreadable one is an InterpError."""
+    pyproj = require("pyproj", "xarray", "reading a coordinate reference system")
     try:
-        parsed = pyproj.CRS.from_user_input(crs)
+        return pyproj.CRS.from_user_input(crs)
     except pyproj.exceptions.CRSError as exc:
         raise InterpError(
             f"{crs!r} is not a coordinate reference system ({exc}); give EPSG:nnnn or WKT"
         ) from None
+
+
+def _projected_unit(parsed: object) -> str:
+    unit = parsed.axis_info[0].unit_name
+    return "m" if unit == "metre" else unit
+
+
+def crs_units(crs: str) -> str | None:
+    """The unit of the easting and northing of a projected CRS (``"m"`` for metres);
+    None for any other CRS (a geographic one gives degrees, not a length).
+
+    Examples
+    --------
+    >>> crs_units("EPSG:32633"), crs_units("EPSG:2264"), crs_units("EPSG:4326")
+    ('m', 'US survey foot', None)
+    """
+    parsed = _parsed(crs)
+    return _projected_unit(parsed) if parsed.is_projected else None
+
+
+def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
+    """CF grid-mapping attributes of a CRS and the CF attributes of its x, y axes."""
+    parsed = _parsed(crs)
     axes: list[dict] = [{}, {}]
     if parsed.is_geographic:
         axes = [
@@ -43,8 +66,7 @@ def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
             {"standard_name": "latitude", "units": "degrees_north"},
         ]
     elif parsed.is_projected:
-        unit = parsed.axis_info[0].unit_name
-        unit = "m" if unit == "metre" else unit
+        unit = _projected_unit(parsed)
         axes = [{"standard_name": f"projection_{n}_coordinate", "units": unit} for n in "xy"]
     return parsed.to_cf(), axes
 

@@ -15,7 +15,7 @@ from interp.view._difference import surface_difference, volumes_text
 from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, font, tick_decimals
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
-from interp.view._scenes import Scene, scene_of
+from interp.view._scenes import Scene, coordinate_units_of, scene_of
 
 if TYPE_CHECKING:
     import pyvista
@@ -91,7 +91,8 @@ def plot(
         Text above the picture (default the field's name and units; ``""`` for none).
     coordinate_units : str, optional
         Units of the coordinates (``"m"``), added to the axis titles:
-        ``x - 512000 (m)``.  The field's own units go on the colour bar.
+        ``x - 512000 (m)``; default the unit of a Grid's projected ``crs``
+        (none without one).  The field's own units go on the colour bar.
     off_screen : bool, optional
         Render without a window (default: only when there is no display).
 
@@ -114,6 +115,8 @@ def plot(
     >>> p.close()
     """
     scene = scene_of(obj, name)
+    if coordinate_units is None:
+        coordinate_units = coordinate_units_of(obj)
     plotter = new_plotter(window_size, off_screen)
     try:
         _draw(
