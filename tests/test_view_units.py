@@ -119,3 +119,13 @@ def test_cli_view_passes_units_to_the_axes(survey_csv, tmp_path, monkeypatch):
     r = run("view", survey_csv, "--units", "m", "--screenshot", tmp_path / "w.png")
     assert r.returncode == 0, r.stderr
     assert matplotlib.image.imread(tmp_path / "w.png").shape[:2] == (900, 1200)
+
+
+def test_slice_errors_count_from_1():
+    from conftest import cube_mesh
+
+    mesh = cube_mesh(1)
+    f = interp.Field(mesh, mesh.points[:, 0])
+    good = ((0.5, 0.5, 0.5), (1, 0, 0))
+    with pytest.raises(interp.InterpError, match="slice 2 needs a finite origin"):
+        plot(f, slices=[good, ((0.5, 0.5, 0.5), (0, 0, 0))], window_size=SIZE)

@@ -382,7 +382,7 @@ def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
             out.append((origin, np.eye(3)[axis]))
         return out
     out = []
-    for k, plane in enumerate(slices):
+    for k, plane in enumerate(slices, start=1):
         try:
             origin, normal = (np.asarray(v, dtype=np.float64).reshape(3) for v in plane)
         except (TypeError, ValueError):
