@@ -130,7 +130,7 @@ def samples(points: object, values: object, order: int) -> Samples:
     if np.isinf(vals).any():
         row = int(np.flatnonzero(np.isinf(vals).any(axis=1))[0])
         raise InterpError(
-            f"values are infinite at point index {row} (counted from 0); use NaN to mark "
+            f"values are infinite at point {row + 1} (counting from 1); use NaN to mark "
             "missing values (those points are dropped)"
         )
     valid = ~np.isnan(vals).any(axis=1)

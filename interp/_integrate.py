@@ -357,7 +357,7 @@ def _check_pieces(mesh: Mesh, pieces: object) -> tuple[np.ndarray, np.ndarray]:
     if bad.any():
         raise InterpError(
             f"{int(bad.sum())} piece(s) name a parent cell outside 0..{mesh.n_cells - 1}, "
-            f"the first is piece {int(np.flatnonzero(bad)[0])}"
+            f"the first is piece {int(np.flatnonzero(bad)[0]) + 1} (counting from 1)"
         )
     if not np.isfinite(corners).all():
         raise InterpError("pieces have NaN or infinite corner coordinates")

@@ -114,7 +114,8 @@ def info_grid(args: argparse.Namespace) -> None:
     for name, f in info["fields"].items():
         lines.append(
             f"field {name}: {f['components']} component(s), range "
-            f"{number(f['min'], 6)}..{number(f['max'], 6)}, {f['nan']:,} node(s) without data"
+            f"{number(f['min'], 6)}..{number(f['max'], 6)}{unit_suffix(f.get('units'))}, "
+            f"{f['nan']:,} node(s) without data"
         )
     emit(args, info, lines)
 
@@ -316,8 +317,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
             points, v, order=args.order, max_edge=args.max_edge, boundary=region
         )
         residuals[name][beyond] = np.nan
-        stats = interp.residual_summary(points, residuals[name], worst=0)
-        del stats["worst"]
+        stats = interp.residual_summary(points, residuals[name])
         stats["outside_boundary"] = int(beyond.sum())
         result[name] = {**stats, "units": args.units}
         k = decimals(v)
@@ -384,6 +384,7 @@ def cmd_view(args: argparse.Namespace) -> None:
         breaklines=lines_of(args.breaklines),
         screenshot=args.screenshot,
         title=args.title,
+        coordinate_units=args.units,
     )
     if out is not None and not args.quiet:
         print(f"wrote {out}")

@@ -48,10 +48,65 @@ def as_ring(vertices: object, name: str = "polygon") -> np.ndarray:
     if not np.isfinite(ring).all():
         raise InterpError(f"{name} has NaN or infinite vertex coordinates")
     if len(ring) > 1:
-        ring = ring[np.any(ring != np.roll(ring, 1, axis=0), axis=1)]
+        ring = ring[distinct_vertices(ring)]
     if len(ring) < 3:
         raise InterpError(f"{name} needs at least 3 distinct vertices; got {len(ring)}")
     return np.ascontiguousarray(ring)
+
+
+def distinct_vertices(ring: np.ndarray) -> np.ndarray:
+    """The vertices :func:`as_ring` keeps: each that differs from the one before it
+    (the first compared with the last, so a closing vertex keeps its place of the first).
+
+    Examples
+    --------
+    >>> distinct_vertices(np.array([[0.0, 0], [1, 0], [1, 0], [0, 1], [0, 0]])).tolist()
+    [False, True, False, True, True]
+    """
+    return np.any(ring != np.roll(ring, 1, axis=0), axis=1)
+
+
+def ring_names(n: int) -> list[str]:
+    """Names of the rings of a polygon of n rings: the exterior, then holes counted from 1.
+
+    Examples
+    --------
+    >>> ring_names(3)
+    ['exterior', 'hole 1', 'hole 2']
+    """
+    return ["exterior"] + [f"hole {k}" for k in range(1, n)]
+
+
+def crossing_text(
+    rings: list[np.ndarray], names: list[str], labels: list[list[str]] | None = None
+) -> str | None:
+    """The first pair of edges that cross, touch or overlap, in words; None for simple rings.
+
+    Edges and vertices count from 1 in each ring (edge k runs from vertex k
+    to vertex k + 1, the last back to vertex 1); with ``labels``, a name for
+    each vertex of each ring (such as the file line it came from), an edge
+    is named by its ends, and an empty ring name is left out.
+
+    Examples
+    --------
+    >>> bowtie = np.array([[0.0, 0], [1, 1], [1, 0], [0, 1]])
+    >>> crossing_text([bowtie], ["exterior"])
+    'exterior edge 1 (vertex 1 to 2) meets exterior edge 3 (vertex 3 to 4)'
+    >>> crossing_text([bowtie], ["ring 0"], [["line 2", "line 3", "line 4", "line 5"]])
+    'the ring 0 edge from line 2 to line 3 meets the ring 0 edge from line 4 to line 5'
+    """
+    hit = first_crossing(rings)
+    if hit is None:
+        return None
+    parts = []
+    for ring, edge in hit:
+        after = (edge + 1) % len(rings[ring])
+        if labels is None:
+            parts.append(f"{names[ring]} edge {edge + 1} (vertex {edge + 1} to {after + 1})")
+        else:
+            name = f"{names[ring]} " if names[ring] else ""
+            parts.append(f"the {name}edge from {labels[ring][edge]} to {labels[ring][after]}")
+    return " meets ".join(parts)
 
 
 def ring_area(ring: np.ndarray) -> float:

@@ -25,7 +25,15 @@ from interp._geometry import ZERO_AREA, check_fills_space
 from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
-from interp.polygon import EdgeGrid, as_ring, contains, first_crossing, ring_area, ring_edges
+from interp.polygon import (
+    EdgeGrid,
+    as_ring,
+    contains,
+    crossing_text,
+    ring_area,
+    ring_edges,
+    ring_names,
+)
 
 
 class Region:
@@ -100,17 +108,13 @@ class Polygon(Region):
 
     def __init__(self, exterior: object, holes: object = ()) -> None:
         holes = list(holes)
-        names = ["exterior"] + [f"hole {k}" for k in range(len(holes))]
-        rings = [as_ring(exterior, "polygon exterior")]
-        rings += [as_ring(h, f"polygon hole {k}") for k, h in enumerate(holes)]
-        hit = first_crossing(rings)
-        if hit is not None:
-            (ra, ea), (rb, eb) = hit
+        names = ring_names(len(holes) + 1)
+        rings = [as_ring(r, f"polygon {n}") for r, n in zip([exterior, *holes], names, strict=True)]
+        crossing = crossing_text(rings, names)
+        if crossing is not None:
             raise InterpError(
-                f"polygon is not simple: {names[ra]} edge {ea} "
-                f"(vertex {ea} to {(ea + 1) % len(rings[ra])}) meets {names[rb]} edge {eb} "
-                f"(vertex {eb} to {(eb + 1) % len(rings[rb])}); reorder the vertices so no "
-                "edges cross or touch, or split the polygon"
+                f"polygon is not simple: {crossing}; reorder the vertices so no edges cross or "
+                "touch, or split the polygon"
             )
         if len(rings) > 1:
             firsts = np.array([r[0] for r in rings[1:]])

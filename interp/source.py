@@ -213,14 +213,17 @@ def value_summary(values: object, components: int) -> dict:
 
 def is_grid_file(path: str | Path) -> bool:
     """True when ``path`` has the suffix of a grid format interp reads back
-    (:data:`interp.io.GRID_READERS`: ``.npz``, ``.vti``, ``.zarr``).
+    (:data:`interp.io.GRID_READERS`: ``.npz``, ``.vti``, ``.zarr``, ``.tif``, ``.nc``).
+    A ``.csv`` is a point file to every command, a grid one included (its
+    units are in its column names); :func:`interp.io.read_grid` reads it as a grid.
 
     Examples
     --------
-    >>> is_grid_file("yard.vti"), is_grid_file("yard.csv")
-    (True, False)
+    >>> is_grid_file("yard.vti"), is_grid_file("yard.tif"), is_grid_file("yard.csv")
+    (True, True, False)
     """
-    return Path(path).suffix.lower() in GRID_READERS
+    suffix = Path(path).suffix.lower()
+    return suffix in GRID_READERS and suffix != ".csv"
 
 
 def describe_grid(path: str | Path) -> dict:

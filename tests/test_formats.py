@@ -406,6 +406,21 @@ def test_geojson_polygon_with_altitudes_and_json_suffix(tmp_path):
         ({"type": "Polygon", "coordinates": [[0, 0, 1, 1]]}, "list of positions"),
         ({"type": "Polygon", "coordinates": []}, "no rings"),
         ({"coordinates": []}, "not a GeoJSON object"),
+        # features and the polygons of a MultiPolygon count from 1, like every number
+        (
+            {
+                "type": "FeatureCollection",
+                "features": [
+                    {"type": "Feature", "geometry": None},
+                    {"type": "Feature", "geometry": {"type": "LineString", "coordinates": FRAME}},
+                ],
+            },
+            "feature 2 is a LineString",
+        ),
+        (
+            {"type": "MultiPolygon", "coordinates": [[FRAME[:-1]]]},
+            r"polygon 1 exterior: the ring is not closed",
+        ),
     ],
 )
 def test_geojson_errors(tmp_path, obj, message):

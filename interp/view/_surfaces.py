@@ -25,7 +25,7 @@ from interp.view._look import (
 )
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
-from interp.view._scenes import Scene, scene_of
+from interp.view._scenes import Scene, coordinate_units_of, scene_of
 
 if TYPE_CHECKING:
     import pyvista
@@ -60,6 +60,7 @@ def plot(
     clim: tuple[float, float] | None = None,
     diverging: bool = False,
     title: str | None = None,
+    coordinate_units: str | None = None,
     off_screen: bool | None = None,
 ) -> pyvista.Plotter:
     """Build the picture of a field, mesh, grid or mesh file as a pyvista Plotter.
@@ -108,6 +109,10 @@ def plot(
         Colour on a diverging map centred on zero (differences, residuals).
     title : str, optional
         Text above the picture (default the field's name and units; ``""`` for none).
+    coordinate_units : str, optional
+        Units of the coordinates (``"m"``), added to the axis titles:
+        ``x - 512000 (m)``; default the unit of a Grid's projected ``crs``
+        (none without one).  The field's own units go on the colour bar.
     off_screen : bool, optional
         Render without a window (default: only when there is no display).
 
@@ -130,6 +135,8 @@ def plot(
     >>> p.close()
     """
     scene = scene_of(obj, name)
+    if coordinate_units is None:
+        coordinate_units = coordinate_units_of(obj)
     plotter = new_plotter(window_size, off_screen)
     try:
         _draw(
@@ -146,6 +153,7 @@ def plot(
             cmap=cmap,
             clim=clim,
             diverging=diverging,
+            coordinate_units=coordinate_units,
         )
     except BaseException:
         plotter.close()
@@ -171,7 +179,7 @@ def show(obj: object, *, screenshot: str | Path | None = None, **options: Any) -
     **options
         The keywords of :func:`plot` (name, warp, contours, edges, points,
         region, breaklines, slices, isosurfaces, window_size, cmap, clim,
-        diverging, title) except off_screen.
+        diverging, title, coordinate_units) except off_screen.
 
     Returns
     -------
@@ -207,6 +215,7 @@ def plot_difference(
     points: bool | np.ndarray | None = None,
     window_size: tuple[int, int] = (1200, 900),
     title: str | None = None,
+    coordinate_units: str | None = None,
     off_screen: bool | None = None,
 ) -> pyvista.Plotter:
     """Build the picture of ``upper - lower``, red above and blue below, white at zero.
@@ -220,7 +229,7 @@ def plot_difference(
     volumes : object with attributes above, below, net, area, optional
         Volumes to print in the title (for example :func:`interp.volume_between`'s
         result).
-    region, warp, contours, edges, points, window_size, off_screen
+    region, warp, contours, edges, points, window_size, coordinate_units, off_screen
         As for :func:`plot`.
     title : str, optional
         Title (default the volumes, or the names of the two surfaces).
@@ -258,6 +267,7 @@ def plot_difference(
         window_size=window_size,
         diverging=True,
         title=title,
+        coordinate_units=coordinate_units,
         off_screen=off_screen,
     )
     if volumes is not None:
@@ -275,7 +285,7 @@ def show_difference(
     """Show the difference of two surfaces in a window, or write it as a PNG.
 
     ``options`` are the keywords of :func:`plot_difference` (volumes, region,
-    warp, contours, edges, points, window_size, title); ``screenshot`` and the
+    warp, contours, edges, points, window_size, title, coordinate_units); ``screenshot`` and the
     result are as for :func:`show`, the default file without a display being
     ``interp-difference.png``.
 
@@ -404,7 +414,7 @@ def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
             out.append((origin, np.eye(3)[axis]))
         return out
     out = []
-    for k, plane in enumerate(slices):
+    for k, plane in enumerate(slices, start=1):
         try:
             origin, normal = (np.asarray(v, dtype=np.float64).reshape(3) for v in plane)
         except (TypeError, ValueError):
@@ -432,6 +442,7 @@ def _draw(
     cmap: str | None,
     clim: tuple[float, float] | None,
     diverging: bool,
+    coordinate_units: str | None,
 ) -> None:
     import pyvista as pv
 
@@ -536,7 +547,7 @@ def _draw(
             title_font_size=font(plotter, 1 / 40),
             label_font_size=font(plotter, 1 / 45),
         )
-    axes_and_camera(plotter, scene, warp)
+    axes_and_camera(plotter, scene, warp, coordinate_units)
 
 
 def _colouring(
