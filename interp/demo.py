@@ -245,16 +245,29 @@ def _viewer_installed() -> bool:
 def _pictures(out, june, base, march, change, section, data, residuals, site, temp, bay):
     from interp import view
 
+    metres = {"coordinate_units": "m"}  # the yard's invented grid is in metres
     files = [
-        view.show(june, warp=3.0, contours=12, region=site, screenshot=out / "yard_2026_06.png"),
-        view.show_difference(
-            june, march, volumes=change, region=site, screenshot=out / "change_march_june.png"
-        ),
-        view.show_profile(section, data=data, screenshot=out / "section.png"),
-        view.show_residuals(data[0], residuals, screenshot=out / "residuals_2026_06.png"),
-        view.show(temp, screenshot=out / "bracket_temperature.png"),
         view.show(
-            bay[0], warp=2.0, edges=True, breaklines=bay[1], screenshot=out / "north_bay.png"
+            june, warp=3.0, contours=12, region=site, screenshot=out / "yard_2026_06.png", **metres
+        ),
+        view.show_difference(
+            june,
+            march,
+            volumes=change,
+            region=site,
+            screenshot=out / "change_march_june.png",
+            **metres,
+        ),
+        view.show_profile(section, data=data, screenshot=out / "section.png", **metres),
+        view.show_residuals(data[0], residuals, screenshot=out / "residuals_2026_06.png", **metres),
+        view.show(temp, screenshot=out / "bracket_temperature.png", **metres),
+        view.show(
+            bay[0],
+            warp=2.0,
+            edges=True,
+            breaklines=bay[1],
+            screenshot=out / "north_bay.png",
+            **metres,
         ),
     ]
     return [Path(f) for f in files]
