@@ -406,7 +406,7 @@ def _check_summary(sums: np.ndarray, worst: float) -> dict:
 
 def _query_blocks(
     query: str | Path, coords: Sequence[str], chunk_rows: int
-) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None, dict]]:
+) -> Iterator[tuple[list[str], str, bytes | None, np.ndarray, np.ndarray | None, dict]]:
     """Blocks of a query file: header, delimiter, raw rows, points, leading numbers,
     and the numeric query columns by name.
 
@@ -420,4 +420,4 @@ def _query_blocks(
             yield head, ",", None, chunk.points, lead, columns
         return
     for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
-        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None, chunk.values
+        yield list(chunk.names), chunk.delimiter, chunk.text, chunk.points, None, chunk.values
