@@ -283,18 +283,18 @@ class _Lines:
 
     def _read(self, rest: bytes) -> bool:
         """Read on after the partial line ``rest``; False at the end of the file."""
-        data = self._file.read(READ_BYTES)
-        while data.endswith(b"\r") and (more := self._file.read(1)):
-            data += more
-        if self._first:
-            data, self._first = data.removeprefix(_BOM), False
-        if not data and rest:
+        raw = self._file.read(max(READ_BYTES, len(_BOM)))
+        while raw.endswith(b"\r") and (more := self._file.read(1)):
+            raw += more
+        data = raw.removeprefix(_BOM) if self._first else raw
+        self._first = False
+        if not raw and rest:
             data = b"\n"
         if b"\r" in data:
             data = data.replace(b"\r\n", b"\n").replace(b"\r", b"\n")
         self._data, self._start = rest + data, 0
         self._ends = np.flatnonzero(np.frombuffer(self._data, np.uint8) == 10)
-        return bool(data)
+        return bool(raw or data)
 
 
 def _cells(line: str, delimiter: str) -> list[str]:

@@ -150,7 +150,9 @@ def _number_text(column: np.ndarray) -> pa.Array:
         mask = np.zeros(len(column), dtype=bool)
         mask[odd] = True
         text = pc.replace_with_mask(
-            text, mask, pa.array([repr(v).removesuffix(".0") for v in column[odd].tolist()], text.type)
+            text,
+            mask,
+            pa.array([repr(v).removesuffix(".0") for v in column[odd].tolist()], text.type),
         )
     return pc.fill_null(text, "").cast(_TEXT)
 
