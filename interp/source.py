@@ -280,7 +280,7 @@ def sample_file(
     out: str | Path,
     *,
     coords: Sequence[str] = ("x", "y"),
-    chunk_rows: int = 500_000,
+    chunk_rows: int = 100_000,
     progress: Callable[[int], None] | None = None,
     evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
 ) -> SampleReport:
@@ -300,6 +300,8 @@ def sample_file(
 
     Parameters
     ----------
+    chunk_rows : int
+        Query rows read, evaluated and written at a time.
     evaluate : callable, optional
         ``evaluate(field, points) -> values``; default ``field(points)``.  The
         dask layer passes one that spreads the chunk over workers.

@@ -404,7 +404,7 @@ def _parse_bulk(
     try:
         table = pacsv.read_csv(
             pa.BufferReader(block),
-            read_options=pacsv.ReadOptions(column_names=keys),
+            read_options=pacsv.ReadOptions(column_names=keys, use_threads=False),
             parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False),
             convert_options=pacsv.ConvertOptions(
                 column_types=dict.fromkeys([keys[j] for j in numeric], pa.float64()),
