@@ -241,3 +241,11 @@ def test_rows_written_from_bytes_equal_rows_written_as_strings(tmp_path):
         == texts[1]
         == "id;x;y;z\nA\u00e9;0.5;1;1e-05\nB\xff;2;3;3e-05\n".encode(errors="surrogateescape")
     )
+
+
+def test_lines_of_unicode_spaces_before_the_header_are_blank(tmp_path):
+    # str.isspace: U+00A0 (no-break space) and U+2003 (em space) are whitespace in Python
+    path = tmp_path / "pts.csv"
+    path.write_text("\u00a0\n\u2003 \nx,y,z\n1,2,3\n", encoding="utf-8")
+    chunk = next(iter_point_chunks(path))
+    assert chunk.names == ["x", "y", "z"] and chunk.line_numbers.tolist() == [4]

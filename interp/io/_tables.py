@@ -144,11 +144,10 @@ def iter_point_chunks(
         line = 0
         while raw := lines.take(1):
             line += 1
-            if raw.strip():
+            if (text := raw.decode(**ENCODING)).strip():
                 break
         else:
             raise InterpError(f"{path}: the file is empty; expected a header row such as x,y,z")
-        text = raw.decode(**ENCODING)
         binary = next((i for i, ch in enumerate(text) if ch < " " and ch not in "\t\r\n"), -1)
         if binary >= 0:
             raise InterpError(
