@@ -284,7 +284,7 @@ def sample_file(
     out: str | Path,
     *,
     coords: Sequence[str] = ("x", "y"),
-    chunk_rows: int = 500_000,
+    chunk_rows: int = 100_000,
     evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
 ) -> SampleReport:
     """Evaluate fields at the points of a query file, streaming it in chunks.
@@ -303,6 +303,8 @@ def sample_file(
 
     Parameters
     ----------
+    chunk_rows : int
+        Query rows read, evaluated and written at a time.
     evaluate : callable, optional
         ``evaluate(field, points) -> values``; default ``field(points)``.  The
         dask layer passes one that spreads the chunk over workers.
@@ -409,7 +411,7 @@ def _check_summary(sums: np.ndarray, worst: float) -> dict:
 
 def _query_blocks(
     query: str | Path, coords: Sequence[str], chunk_rows: int
-) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None, dict]]:
+) -> Iterator[tuple[list[str], str, bytes | None, np.ndarray, np.ndarray | None, dict]]:
     """Blocks of a query file: header, delimiter, raw rows, points, leading numbers,
     and the numeric query columns by name.
 
@@ -423,4 +425,4 @@ def _query_blocks(
             yield head, ",", None, chunk.points, lead, columns
         return
     for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
-        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None, chunk.values
+        yield list(chunk.names), chunk.delimiter, chunk.text, chunk.points, None, chunk.values
