@@ -278,9 +278,10 @@ SAMPLED = "_sampled"
 RESIDUAL = "_residual"
 
 
+@renamed(query="query_file")
 def sample_file(
     fields: dict[str, Field],
-    query: str | Path,
+    query_file: str | Path,
     out: str | Path,
     *,
     coords: Sequence[str] = ("x", "y"),
@@ -303,6 +304,15 @@ def sample_file(
 
     Parameters
     ----------
+    fields : dict of str to Field
+        The fields to sample, by the names their columns get.
+    query_file : str or Path
+        The query points: a point file or a LAS/LAZ cloud.  (``query=`` is
+        the old spelling of this keyword.)
+    out : str or Path
+        The output file.
+    coords : sequence of str
+        The coordinate columns of the query file.
     chunk_rows : int
         Query rows read, evaluated and written at a time.
     evaluate : callable, optional
@@ -327,7 +337,7 @@ def sample_file(
     >>> report.checks["z_sampled"]["rms"]
     0.5
     """
-    if Path(out).resolve() == Path(query).resolve():
+    if Path(out).resolve() == Path(query_file).resolve():
         raise InterpError(
             f"the output {out} is the query file itself; writing it would destroy the query "
             "file: give another output file"
@@ -338,7 +348,7 @@ def sample_file(
     with ExitStack() as stack:
         advance = stack.enter_context(task("sampling", unit="rows"))
         writer = None
-        blocks = _query_blocks(query, coords, chunk_rows)
+        blocks = _query_blocks(query_file, coords, chunk_rows)
         for head, delimiter, text, points, lead, numeric in blocks:
             if writer is None:
                 columns, known, residuals = _output_columns(head, numeric, sampled)
@@ -365,7 +375,7 @@ def sample_file(
             rows += len(points)
             advance(len(points))
         if writer is None:
-            raise InterpError(f"{query}: the query file has no data rows")
+            raise InterpError(f"{query_file}: the query file has no data rows")
     checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
     return SampleReport(rows, outside, Path(out), columns, checks)
 
