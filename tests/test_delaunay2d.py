@@ -305,6 +305,30 @@ def test_constraint_errors_name_the_segment():
 coords = st.integers(0, 40).map(lambda v: OFFSET[0] + v * 0.25)
 
 
+def test_a_breakline_along_the_hull_through_a_vertex_is_split_there():
+    # found by the property test below: the constraint runs along a hull edge that has
+    # a third point exactly on it (5.75 + 0.75 * 1 = 6.5), which is a vertex of the hull
+    o = OFFSET[0]
+    pts = np.array(
+        [
+            [o, o + 0.5],
+            [o + 0.25, o],
+            [o, o + 5.75],
+            [o, o + 0.25],
+            [o + 1, o + 6.5],
+            [o + 3, o + 8],
+            [o, o],
+        ]
+    )
+    r = constrained2d(pts, [[2, 5]])
+    fixed = {frozenset(e) for e in r.edges.tolist()}
+    assert fixed == {frozenset((2, 4)), frozenset((4, 5))}
+    area = check_valid(r.points, r.cells)
+    # reference: shapely's convex hull of the same points
+    assert float(area) == pytest.approx(shapely.MultiPoint(pts).convex_hull.area, rel=1e-12)
+    assert non_delaunay_edges(r.points, r.cells, fixed) == 0
+
+
 @settings(max_examples=40, deadline=None)
 @given(
     st.lists(st.tuples(coords, coords), min_size=4, max_size=40, unique=True),

@@ -112,7 +112,13 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
                     _mark(nbr, cons, t, (ka + 2) % 3, kind)
                     a = q
                     break
-                if oq < 0.0 and orient2d(x[a], y[a], x[b], y[b], x[r], y[r]) > 0.0:
+                o_r = orient2d(x[a], y[a], x[b], y[b], x[r], y[r])
+                # r too: on the hull, a's last neighbour is the r of a triangle only
+                if o_r == 0.0 and between(x, y, a, b, r):
+                    _mark(nbr, cons, t, (ka + 1) % 3, kind)
+                    a = r
+                    break
+                if oq < 0.0 and o_r > 0.0:
                     crossing = True
                     break
             t = nbr[t, (ka + 1) % 3]
