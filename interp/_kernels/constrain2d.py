@@ -125,7 +125,9 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
         if cons[t, ka] != 0:
             return CROSSING, fresh, nfresh
         work = np.empty((16, 2), dtype=np.int32)
-        work, nwork = _push(work, 0, q, r)
+        work[0, 0] = q
+        work[0, 1] = r
+        nwork = 1
         prev = t
         u = nbr[t, ka]
         end = b

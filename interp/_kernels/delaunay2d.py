@@ -67,11 +67,18 @@ def _conflict(x, y, tri, t, p, inf):  # pragma: no cover
 
 @numba.njit(cache=True, nogil=True)
 def grow(a, n):  # pragma: no cover
-    """a with room for at least n entries."""
+    """a with room for at least n entries (a C-contiguous 1-D or 2-D array).
+
+    The copy is an explicit loop over the flat entries: a slice assignment
+    would compile numba's broadcasting and its error messages as well.
+    """
     if n <= a.shape[0]:
         return a
     b = np.empty((2 * n,) + a.shape[1:], dtype=a.dtype)
-    b[: a.shape[0]] = a
+    src = a.reshape(a.size)
+    dst = b.reshape(b.size)
+    for i in range(a.size):
+        dst[i] = src[i]
     return b
 
 

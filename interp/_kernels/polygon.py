@@ -154,13 +154,10 @@ def first_pair(seg, following, start, members):  # pragma: no cover
                     or max(seg[j, 1], seg[j, 3]) < min(seg[i, 1], seg[i, 3])
                 ):
                     continue
-                if following[i] == j:
-                    hit = _meet(seg, i, j, True)
-                elif following[j] == i:
-                    hit = _meet(seg, j, i, True)
-                else:
-                    hit = _meet(seg, i, j, False)
-                if hit:
+                # one specialisation of _meet: ``adjacent`` a run-time bool, not a literal
+                adjacent = following[i] == j or following[j] == i
+                first, second = (j, i) if following[i] != j and following[j] == i else (i, j)
+                if _meet(seg, first, second, adjacent):
                     bi, bj = i, j
     if bi == big:
         return -1, -1

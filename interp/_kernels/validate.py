@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import EMPTY, FLAT, TOLERANCE
+from interp._kernels.delaunay2d import grow
 from interp._kernels.fit import node_gradient
 from interp._kernels.geometry import inverse_into, sort_small
 
@@ -56,14 +57,16 @@ def leave_one_out(
         for i in range(r):
             combo[i] = i
         while True:
-            if _origin_bary(table, combo, face, lam) and lam.min() >= -TOLERANCE:
+            if _origin_bary(table, combo, face, lam) and _smallest(lam) >= -TOLERANCE:
                 for i in range(r):
-                    verts[i] = y[combo[i]]
+                    for a in range(d):
+                        verts[i, a] = y[combo[i], a]
                 if _inverse(verts, inv) and _empty(y, lift, combo, verts[0], inv, scratch):
-                    if lam.min() > deepest:
-                        deepest = lam.min()
-                        best[:] = combo
-                        best_lam[:] = lam
+                    if _smallest(lam) > deepest:
+                        deepest = _smallest(lam)
+                        for i in range(r):
+                            best[i] = combo[i]
+                            best_lam[i] = lam[i]
                     if deepest > TOLERANCE:
                         break
             if not _next_combo(combo, k):
@@ -111,7 +114,9 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     for i in range(k):
         dist[i] = _distance(x, link[i], p)
     order = np.argsort(dist)
-    link[:] = link[order]
+    unsorted = link.copy()
+    for i in range(k):
+        link[i] = unsorted[order[i]]
     radius = dist[order[-1]]
     y = np.empty((k, d))
     lift = np.empty(k)
@@ -213,7 +218,8 @@ def _star_cells(y, first, boundary):  # pragma: no cover
     """
     r = first.size
     cells = np.empty((4 * y.shape[0] + 16, r), dtype=np.int64)
-    cells[0] = first
+    for i in range(r):
+        cells[0, i] = first[i]
     count, head = 1, 0
     face = np.empty(r - 1, dtype=np.int64)
     cand = np.empty(r, dtype=np.int64)
@@ -227,14 +233,15 @@ def _star_cells(y, first, boundary):  # pragma: no cover
             e = _apex(y, face, cells[head, i], c0, nrm)
             if e < 0:
                 continue
-            cand[: r - 1] = face
+            for j in range(r - 1):
+                cand[j] = face[j]
             cand[r - 1] = e
             sort_small(cand)
             if _has_row(cells, count, cand):
                 continue
-            if count == cells.shape[0]:
-                cells = _grow(cells)
-            cells[count] = cand
+            cells = grow(cells, count + 1)
+            for j in range(r):
+                cells[count, j] = cand[j]
             count += 1
         head += 1
     return cells, count
@@ -273,19 +280,29 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
         c0[0], c0[1] = g0[0] + 0.5 * a0, g0[1] + 0.5 * a1
         nrm[0], nrm[1] = -a1, a0
     else:
-        a = y[face[1]] - g0
-        b = y[face[2]] - g0
-        _cross(a, b, nrm)
-        w = np.sum(a**2) * b - np.sum(b**2) * a
+        ea, eb, w = np.empty(3), np.empty(3), np.empty(3)
+        aa, bb = 0.0, 0.0
+        for k in range(3):
+            ea[k] = y[face[1], k] - g0[k]
+            eb[k] = y[face[2], k] - g0[k]
+            aa += ea[k] ** 2
+            bb += eb[k] ** 2
+        _cross(ea, eb, nrm)
+        nn = 0.0
+        for k in range(3):
+            w[k] = aa * eb[k] - bb * ea[k]
+            nn += nrm[k] ** 2
         _cross(w, nrm, c0)
-        c0[:] = g0 + c0 / (2.0 * np.sum(nrm**2))
+        for k in range(3):
+            c0[k] = g0[k] + c0[k] / (2.0 * nn)
     side, size, r0 = 0.0, 0.0, 0.0
     for a in range(d):
         side += nrm[a] * (y[opposite, a] - c0[a])
         size += nrm[a] ** 2
         r0 += (g0[a] - c0[a]) ** 2
     if side > 0:
-        nrm *= -1.0
+        for a in range(d):
+            nrm[a] = -nrm[a]
     size = np.sqrt(size)
     best, best_t = -1, np.inf
     for e in range(y.shape[0]):
@@ -387,8 +404,11 @@ def _inverse(verts, inv):  # pragma: no cover
     e = np.empty((d, d))
     size = 1.0
     for i in range(d):
-        e[i] = verts[i + 1] - verts[0]
-        size *= np.sqrt(np.sum(e[i] ** 2))
+        length = 0.0
+        for a in range(d):
+            e[i, a] = verts[i + 1, a] - verts[0, a]
+            length += e[i, a] ** 2
+        size *= np.sqrt(length)
     det = inverse_into(e, d, inv)
     return size > 0.0 and abs(det) > FLAT * size
 
@@ -451,8 +471,9 @@ def _next_combo(combo, k):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def _grow(rows):  # pragma: no cover
-    """The same rows in an array twice as long."""
-    out = np.empty((2 * rows.shape[0], rows.shape[1]), dtype=rows.dtype)
-    out[: rows.shape[0]] = rows
+def _smallest(a):  # pragma: no cover
+    """The smallest entry of the 1-D array ``a`` (finite entries), by a loop."""
+    out = a[0]
+    for i in range(1, a.size):
+        out = min(out, a[i])
     return out
