@@ -38,6 +38,7 @@ from collections.abc import Callable
 from functools import cache
 from pathlib import Path
 
+import numba
 from numba.core import event
 from numba.core.caching import CacheImpl, InTreeCacheLocator
 
@@ -152,3 +153,10 @@ def set_announce(enabled: bool | None) -> None:
     >>> set_announce(None)
     """
     _ANNOUNCER.enabled = enabled
+
+
+#: the decorator of kernels called only from other kernels: cached like every kernel,
+#: but numba compiles no Python or C entry point for them (about a third of a small
+#: kernel's compile).  A kernel called from Python, or from a doctest, takes
+#: ``numba.njit(cache=True, nogil=True)``.
+inner = numba.njit(cache=True, no_cpython_wrapper=True, no_cfunc_wrapper=True)

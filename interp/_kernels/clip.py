@@ -5,12 +5,13 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._kernels import inner
 from interp._kernels.delaunay2d import grow
 from interp._kernels.geometry import sort_small
 from interp._kernels.polygon import bin_index, inside
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _ccw(t, v):  # pragma: no cover
     """Write triangle t (3, 2) into v in counter-clockwise order; return v."""
     cw = (t[1, 0] - t[0, 0]) * (t[2, 1] - t[0, 1]) < (t[1, 1] - t[0, 1]) * (t[2, 0] - t[0, 0])
@@ -22,7 +23,7 @@ def _ccw(t, v):  # pragma: no cover
     return v
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _put(out, n, tri, c):  # pragma: no cover
     """out[n] = tri[c] for triangles (3, 2), entry by entry (no array assignment to compile)."""
     for i in range(3):
@@ -53,7 +54,7 @@ def classify(tri, lo, h, nx, ny, occupied, seg, row_start, row_members, status):
             status[c] = 1 if inside(cx, cy, lo, h, ny, seg, row_start, row_members) else 0
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _y_at(x0, y0, x1, y1, x):  # pragma: no cover
     """y of the segment (x0 < x1) at x, exact at its ends."""
     if x <= x0:
@@ -63,7 +64,7 @@ def _y_at(x0, y0, x1, y1, x):  # pragma: no cover
     return y0 + (x - x0) * (y1 - y0) / (x1 - x0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
     """The part of segment a-b inside the counter-clockwise triangle v (3, 2)."""
     lo, hi = 0.0, 1.0
@@ -88,7 +89,7 @@ def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
     return True, px, py, qx, qy
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _distinct(a):  # pragma: no cover
     """Sort ``a`` and move its distinct values to the front (numpy's ``unique``); their count."""
     sort_small(a)
@@ -218,7 +219,7 @@ def cut_cells(
     return offsets, out[:n]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _same(p, q):  # pragma: no cover
     """Whether the triangles p and q (3, 2) have the same corners in the same order."""
     for i in range(3):
@@ -250,7 +251,7 @@ def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
             kk += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _clip_triangle(subject, v, poly, work):  # pragma: no cover
     """Sutherland-Hodgman: subject triangle clipped by the ccw triangle v; returns the count."""
     n = 3

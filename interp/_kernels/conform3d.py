@@ -11,10 +11,11 @@ they share the same way.  Geometric decisions are exact predicates.
 import numba
 import numpy as np
 
+from interp._kernels import inner
 from interp._kernels.predicates import orient3d
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _root(parent, i):  # pragma: no cover
     """Root of ``i`` in a union-find forest, halving the path on the way."""
     while parent[i] != i:
@@ -90,7 +91,7 @@ def clusters(cells, flat, neighbors, planes):  # pragma: no cover
     return root, across
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _pull_cluster(points, corners, across, pulled, flat_ratio, out, n_out):  # pragma: no cover
     """Pulling triangulation of the convex polytope tiled by the tetrahedra
     ``corners`` (t, 4), written to ``out`` from row ``n_out``.

@@ -23,6 +23,7 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._kernels import inner
 from interp._kernels.predicates import incircle, orient2d
 
 # status codes returned by the kernels
@@ -32,7 +33,7 @@ CROSSING = 2  # a segment crosses a constraint edge
 LOST = 3  # a segment end could not be reached (not a vertex)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def slot(tri, t, v):  # pragma: no cover
     """Position of vertex v in triangle t."""
     if tri[t, 0] == v:
@@ -42,7 +43,7 @@ def slot(tri, t, v):  # pragma: no cover
     return 2
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def between(x, y, u, v, p):  # pragma: no cover
     """For p collinear with u-v: whether p lies strictly inside the segment."""
     if x[u] != x[v]:
@@ -50,7 +51,7 @@ def between(x, y, u, v, p):  # pragma: no cover
     return min(y[u], y[v]) < y[p] < max(y[u], y[v])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _conflict(x, y, tri, t, p, inf):  # pragma: no cover
     """Whether p lies in the open circumcircle of triangle t (ghosts: open outer
     half-plane or open hull edge)."""
@@ -61,11 +62,12 @@ def _conflict(x, y, tri, t, p, inf):  # pragma: no cover
         o = orient2d(x[a], y[a], x[b], y[b], x[p], y[p])
         if o > 0.0:
             return True
-        return o == 0.0 and between(x, y, a, b, p)
+        # the vertices as int64, like the caller in constrain2d: one compiled between
+        return o == 0.0 and between(x, y, np.int64(a), np.int64(b), p)
     return incircle(x[a], y[a], x[b], y[b], x[c], y[c], x[p], y[p]) > 0.0
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def grow(a, n):  # pragma: no cover
     """a with room for at least n entries (a C-contiguous 1-D or 2-D array).
 
@@ -82,7 +84,7 @@ def grow(a, n):  # pragma: no cover
     return b
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _first_triangle(x, y, tri, nbr, a, b, c, inf):  # pragma: no cover
     """Triangle 0 = (a, b, c) counter-clockwise and its three ghosts 1..3."""
     if orient2d(x[a], y[a], x[b], y[b], x[c], y[c]) < 0.0:
@@ -290,7 +292,7 @@ def hilbert_keys(x, y, lo_x, lo_y, scale, order):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def vertex_triangles(tri, ntri, n):  # pragma: no cover
     """A triangle holding each vertex (the vertex at infinity included)."""
     vt = np.full(n + 1, -1, dtype=np.int32)

@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR, ONE_SIDED
+from interp._kernels import inner
 from interp._kernels.geometry import sort_small
 
 
@@ -19,7 +20,7 @@ def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no
         _node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _node_gradient(
     node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
 ):  # pragma: no cover
@@ -63,7 +64,7 @@ def _node_gradient(
         _no_gradient(grad)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _no_gradient(grad):  # pragma: no cover
     """NaN into every entry of ``grad`` (d, c), by a loop (no array assignment to compile)."""
     for k in range(grad.shape[0]):
@@ -71,7 +72,7 @@ def _no_gradient(grad):  # pragma: no cover
             grad[k, c] = np.nan
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _one_sided(x, node, members, count):  # pragma: no cover
     """True when the ``members`` lie on one side of a plane (2D: line, 1D: point) through ``node``.
 
@@ -103,7 +104,7 @@ def _one_sided(x, node, members, count):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _supports(normal, y):  # pragma: no cover
     """True when every row of ``y`` is on one side of the plane through 0 normal to ``normal``.
 
@@ -131,7 +132,7 @@ def _supports(normal, y):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _add_ring(
     q, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
 ):  # pragma: no cover
@@ -150,7 +151,7 @@ def _add_ring(
     return count
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
     """Least-squares polynomial of ``degree`` through the ``members``, centred at ``node``.
 
@@ -204,7 +205,7 @@ def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
     return rcond
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _lstsq(a, b, out, min_rcond):  # pragma: no cover
     """Least squares ``a @ out ~ b`` by Householder QR with column pivoting.
 
@@ -247,7 +248,7 @@ def _lstsq(a, b, out, min_rcond):  # pragma: no cover
     return rcond
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _reflect(w, ww, j, a, first):  # pragma: no cover
     """Apply the Householder reflection I - 2 w w^T / ww (rows j:) to columns first: of a."""
     for k in range(first, a.shape[1]):

@@ -5,8 +5,10 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from interp._kernels import inner
 
-@numba.njit(cache=True, nogil=True)
+
+@inner
 def _det(a, n):  # pragma: no cover
     """Determinant of the leading n x n block of a (n <= 3), expanded as :func:`det`."""
     if n == 1:
@@ -46,7 +48,7 @@ def measure_and_size(corners, vol, size):  # pragma: no cover
         vol[c] = np.sqrt(max(_det(gram, t), 0.0))
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def inverse_into(e, g, inv):  # pragma: no cover
     """Inverse of the g x g matrix ``e`` (g <= 3) into ``inv`` by the adjugate, and
     its determinant (``inv`` is meaningless when that is 0)."""
@@ -112,7 +114,7 @@ def bad_cells(cells, n):  # pragma: no cover
     return np.flatnonzero(out_of_range), np.flatnonzero(repeated)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def sort_small(a):  # pragma: no cover
     """Sort the short 1-D array ``a`` in place, by insertion.
 

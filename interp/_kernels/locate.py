@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import MARGIN, TIE, TOLERANCE
+from interp._kernels import inner
 
 
 @numba.njit(cache=True, nogil=True)
@@ -24,7 +25,7 @@ def cell_boxes(points, corners, lo, h, shape, pad, i0, i1, c0, c1):  # pragma: n
             i1[c, a] = min(max(int(np.floor((cmax + pad - lo[a]) / h[a])), 0), shape[a] - 1)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _rows_of(i0, i1, c, a0, a1):  # pragma: no cover
     """Rows of cell c's box in the slab a0 <= i < a1 of the first axis: the ranges
     of i and j (the axes before the last; a single row in 1D) and i's first value."""
@@ -115,7 +116,7 @@ def fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members):  # pragma: no 
                     slot[row + k] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _row(i, j, g, shape):  # pragma: no cover
     """Flat index of the first bucket of row (i, j) along the last axis."""
     row = i if g > 1 else 0
@@ -131,7 +132,7 @@ def bucket_of(x, lo, h, shape, flat):  # pragma: no cover
         flat[p] = _bucket(x[p], lo, h, shape)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _bucket(x, lo, h, shape):  # pragma: no cover
     """Bucket of point ``x`` (its first len(lo) coordinates), -1 outside or NaN."""
     b = 0
@@ -186,7 +187,7 @@ def scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cov
                 bary[p, b] = coords[i, b]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _deepest(x, bucket, start, members, affine, lam, out):  # pragma: no cover
     """The cell of ``bucket`` that contains point ``x`` deepest (-1 if none), its
     barycentric coordinates written to ``out``; ``lam`` is scratch space."""

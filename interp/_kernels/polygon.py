@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import BIN_SLACK
+from interp._kernels import inner
 from interp._kernels.predicates import orient2d
 
 
@@ -103,13 +104,13 @@ def orient(ax, ay, bx, by, cx, cy):  # pragma: no cover
     return 1 if o > 0.0 else (-1 if o < 0.0 else 0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _on_segment(px, py, qx, qy, rx, ry):  # pragma: no cover
     """For r collinear with p-q: whether r lies on the closed segment p-q."""
     return min(px, qx) <= rx <= max(px, qx) and min(py, qy) <= ry <= max(py, qy)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _meet(seg, i, j, adjacent):  # pragma: no cover
     """Whether edges i and j share a point they should not."""
     px, py, qx, qy = seg[i, 0], seg[i, 1], seg[i, 2], seg[i, 3]

@@ -6,6 +6,7 @@ import numba
 import numpy as np
 
 from interp._geometry import EMPTY, FLAT, TOLERANCE
+from interp._kernels import inner
 from interp._kernels.delaunay2d import grow
 from interp._kernels.fit import node_gradient
 from interp._kernels.geometry import inverse_into, sort_small
@@ -101,7 +102,7 @@ def leave_one_out(
                 )
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _local_coordinates(x, p, link, local):  # pragma: no cover
     """Link vertices sorted by distance from p (in place), centred on p and scaled to radius 1.
 
@@ -129,7 +130,7 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     return y, lift
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orientations(y):  # pragma: no cover
     """Determinant of every d-subset of the rows of ``y`` (k, d), at its combinadic rank."""
     k, d = y.shape
@@ -153,7 +154,7 @@ def _orientations(y):  # pragma: no cover
             return table
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _origin_bary(table, combo, face, lam):  # pragma: no cover
     """Barycentric coordinates of the origin in the simplex ``combo`` from the d-subset table.
 
@@ -174,7 +175,7 @@ def _origin_bary(table, combo, face, lam):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _choose(n, k):  # pragma: no cover
     """Binomial coefficient C(n, k) for k <= 3 (0 when n < k)."""
     out = 1
@@ -183,7 +184,7 @@ def _choose(n, k):  # pragma: no cover
     return max(out, 0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _rank(face):  # pragma: no cover
     """Combinadic rank of an increasing choice: sum of C(face[t], t + 1)."""
     out = 0
@@ -192,7 +193,7 @@ def _rank(face):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _boundary(cells, star_cells, p, local):  # pragma: no cover
     """The faces opposite p of the cells around it, as sorted link-local ids (s, d)."""
     d = cells.shape[1] - 1
@@ -208,7 +209,7 @@ def _boundary(cells, star_cells, p, local):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _star_cells(y, first, boundary):  # pragma: no cover
     """Cells of Delaunay(link) filling p's star, grown from ``first`` across inner faces.
 
@@ -247,7 +248,7 @@ def _star_cells(y, first, boundary):  # pragma: no cover
     return cells, count
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _has_row(rows, count, row):  # pragma: no cover
     """Whether ``row`` is one of the first ``count`` rows of ``rows``."""
     for i in range(count):
@@ -261,7 +262,7 @@ def _has_row(rows, count, row):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     """The Delaunay neighbour across ``face`` from the vertex ``opposite``: its new vertex.
 
@@ -318,7 +319,7 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     return best
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _cross(a, b, out):  # pragma: no cover
     """The cross product of the 3-vectors a and b into ``out`` (numpy's formula)."""
     out[0] = a[1] * b[2] - a[2] * b[1]
@@ -326,7 +327,7 @@ def _cross(a, b, out):  # pragma: no cover
     out[2] = a[0] * b[1] - a[1] * b[0]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _new_rings(
     x, cells, kept, vc_ptr, vc_idx, p, link, k, new, n_new, max_edge, mark, stamp
 ):  # pragma: no cover
@@ -373,7 +374,7 @@ def _new_rings(
     return over_ptr, over_idx, stamp
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _empty(y, lift, combo, origin, inv, lam):  # pragma: no cover
     """Whether no link vertex lies inside the circumsphere of the simplex ``combo``.
 
@@ -397,7 +398,7 @@ def _empty(y, lift, combo, origin, inv, lam):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _inverse(verts, inv):  # pragma: no cover
     """Inverse of the edge matrix (rows verts[i + 1] - verts[0]) into ``inv``; False if flat."""
     d = verts.shape[1]
@@ -413,7 +414,7 @@ def _inverse(verts, inv):  # pragma: no cover
     return size > 0.0 and abs(det) > FLAT * size
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _bary(z, origin, inv, lam):  # pragma: no cover
     """Barycentric coordinates of z in the simplex with corner ``origin`` and edge inverse."""
     d = z.size
@@ -427,7 +428,7 @@ def _bary(z, origin, inv, lam):  # pragma: no cover
     lam[0] = 1.0 - s
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _longest(x, link, combo):  # pragma: no cover
     """Longest edge of the simplex of link vertices ``combo``, in the points' coordinates."""
     out = 0.0
@@ -437,7 +438,7 @@ def _longest(x, link, combo):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _distance(x, a, b):  # pragma: no cover
     """Euclidean distance between points a and b of ``x``."""
     s = 0.0
@@ -446,7 +447,7 @@ def _distance(x, a, b):  # pragma: no cover
     return np.sqrt(s)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _holds(rows, i, value):  # pragma: no cover
     """Whether row i of the small 2-D array ``rows`` holds ``value``."""
     for t in range(rows.shape[1]):
@@ -455,7 +456,7 @@ def _holds(rows, i, value):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _next_combo(combo, k):  # pragma: no cover
     """Advance ``combo`` to the next increasing choice from range(k); False after the last."""
     r = combo.size
@@ -470,7 +471,7 @@ def _next_combo(combo, k):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _smallest(a):  # pragma: no cover
     """The smallest entry of the 1-D array ``a`` (finite entries), by a loop."""
     out = a[0]
