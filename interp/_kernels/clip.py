@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.delaunay2d import grow
 from interp._kernels.geometry import sort_small
 from interp._kernels.polygon import bin_index, inside
@@ -31,7 +30,7 @@ def _put(out, n, tri, c):  # pragma: no cover
             out[n, i, a] = tri[c, i, a]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def classify(tri, lo, h, nx, ny, occupied, seg, row_start, row_members, status):  # pragma: no cover
     """Status of each triangle: 0 outside, 1 inside, 2 an edge bucket meets its bounding box."""
     gx, gy = lo[0] + nx * h, lo[1] + ny * h
@@ -101,7 +100,7 @@ def _distinct(a):  # pragma: no cover
     return n
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cut_cells(
     tri, cand, lo, h, nx, ny, start, members, seg, row_start, row_members
 ):  # pragma: no cover
@@ -228,7 +227,7 @@ def _same(p, q):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
     """Whole inside triangles and the pieces of cut ones, in triangle order.
 
@@ -282,7 +281,7 @@ def _clip_triangle(subject, v, poly, work):  # pragma: no cover
     return n
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     """Fan triangles of every non-empty intersection of a cell of a with a cell of b."""
     nb = b.shape[0]

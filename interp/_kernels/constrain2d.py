@@ -10,10 +10,9 @@ crossings of segments, and the convex hull.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.delaunay2d import CROSSING, LOST, OK, between, grow, slot, vertex_triangles
 from interp._kernels.predicates import incircle, orient2d
 
@@ -194,7 +193,7 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
     return OK, fresh, nfresh
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
     """Insert segments ``seg[i] = (a, b)`` (vertex indices) flagged ``kind[i]``
     into a Delaunay triangulation, then flip every unflagged edge that is not
@@ -235,7 +234,7 @@ def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
     return cons, OK, -1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def regions(tri, nbr, cons, ntri, inf, wall):  # pragma: no cover
     """Label the real triangles by the connected regions that edges flagged
     ``wall`` separate (ghosts get -1).  Returns ``(label, first)``: the label of
@@ -268,7 +267,7 @@ def regions(tri, nbr, cons, ntri, inf, wall):  # pragma: no cover
     return label, first[:nreg]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def crossings(ax, ay, bx, by):  # pragma: no cover
     """Pairs of segments a[i]-b[i] that cross at one interior point, and pairs
     that overlap along a piece of positive length (collinear).
@@ -337,7 +336,7 @@ def _collinear_overlap(ax, ay, bx, by, i, j):  # pragma: no cover
     return lo < hi
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def convex_hull(x, y, order):  # pragma: no cover
     """Vertices of the convex hull, counter-clockwise, no collinear vertex
     (Andrew's monotone chain over points sorted by x then y, exact turns)."""
@@ -368,7 +367,7 @@ def convex_hull(x, y, order):  # pragma: no cover
     return hull[: h - 1]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def first_outside(x, y, hull, px, py):  # pragma: no cover
     """The first point (px[i], py[i]) strictly outside the convex polygon of
     counter-clockwise vertices ``hull`` (rows of x, y), or -1 (exact)."""

@@ -20,10 +20,9 @@ Constraints are inserted by :mod:`interp._kernels.constrain2d`.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import incircle, orient2d
 
 # status codes returned by the kernels
@@ -103,7 +102,7 @@ def _first_triangle(x, y, tri, nbr, a, b, c, inf):  # pragma: no cover
                         nbr[t, k] = s
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def delaunay(x, y):  # pragma: no cover
     """Delaunay triangulation of distinct points, inserted in the given order.
 
@@ -228,7 +227,7 @@ def delaunay(x, y):  # pragma: no cover
     return tri, nbr, ntri, same, OK
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cells_of(tri, keep, label):  # pragma: no cover
     """The triangles ``t`` with ``keep[t]`` as int64 rows of ``label[vertex]``."""
     m = 0
@@ -245,7 +244,7 @@ def cells_of(tri, keep, label):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def flagged_edges(tri, nbr, cons, ntri, label):  # pragma: no cover
     """Each flagged edge once: (e, 2) int64 rows of ``label[vertex]`` and the flags."""
     m = 0
@@ -266,7 +265,7 @@ def flagged_edges(tri, nbr, cons, ntri, label):  # pragma: no cover
     return out, flags
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def hilbert_keys(x, y, lo_x, lo_y, scale, order):  # pragma: no cover
     """Index of each point along a Hilbert curve of 2**order x 2**order cells
     laid over the box from (lo_x, lo_y) with cell count per unit ``scale``."""

@@ -2,15 +2,14 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR, ONE_SIDED
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.geometry import sort_small
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no cover
     """Gradient at every node of ``x`` into ``grad`` (n, d, c)."""
     n = x.shape[0]

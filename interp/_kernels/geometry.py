@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 
 
 @inner
@@ -22,7 +21,7 @@ def _det(a, n):  # pragma: no cover
     )
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def measure_and_size(corners, vol, size):  # pragma: no cover
     """|det E| (or sqrt det E E^T) and the largest |E| entry of each simplex's edges E."""
     m, k, g = corners.shape
@@ -77,7 +76,7 @@ def inverse_into(e, g, inv):  # pragma: no cover
     return d
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def affine_maps(points, corners, affine, c0, c1):  # pragma: no cover
     """Affine map to barycentric coordinates of cells c0 to c1 - 1 of a mesh whose
     cells fill their space: ``bary[1:] = x @ affine[c, :g] + affine[c, g]``."""
@@ -98,7 +97,7 @@ def affine_maps(points, corners, affine, c0, c1):  # pragma: no cover
             affine[c, g, b] = shift
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bad_cells(cells, n):  # pragma: no cover
     """Cells with a node index outside 0..n-1, and cells that repeat a node."""
     m, k = cells.shape

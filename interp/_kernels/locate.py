@@ -2,14 +2,13 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import MARGIN, TIE, TOLERANCE
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cell_boxes(points, corners, lo, h, shape, pad, i0, i1, c0, c1):  # pragma: no cover
     """Bucket range of the bounding box of cells c0 to c1 - 1."""
     g = i0.shape[1]
@@ -36,7 +35,7 @@ def _rows_of(i0, i1, c, a0, a1):  # pragma: no cover
     return max(i0[c, 0], a0), min(i1[c, 0], a1 - 1), j0, j1, i0[c, 0]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count):  # pragma: no cover
     """The run of buckets each row of each cell's box keeps, and the count per bucket,
     for the rows in the slab a0 <= i < a1; ``first[c]`` is cell c's first row.
@@ -101,7 +100,7 @@ def find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count):  # prag
                     count[row + k] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members):  # pragma: no cover
     """Write each cell into the buckets of its runs in the slab a0 <= i < a1, at
     ``slot`` (cells in ascending order)."""
@@ -125,7 +124,7 @@ def _row(i, j, g, shape):  # pragma: no cover
     return row * shape[g - 1]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bucket_of(x, lo, h, shape, flat):  # pragma: no cover
     """Bucket of each point, -1 outside the grid or NaN."""
     for p in range(x.shape[0]):
@@ -144,7 +143,7 @@ def _bucket(x, lo, h, shape):  # pragma: no cover
     return b
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def counting_order(flat, n_buckets):  # pragma: no cover
     """Stable order of the points by bucket (points outside first), by counting."""
     first = np.zeros(n_buckets + 2, dtype=np.int64)
@@ -159,7 +158,7 @@ def counting_order(flat, n_buckets):  # pragma: no cover
     return order
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cover
     """Locate the points, visiting them in ``order``.
 
@@ -218,7 +217,7 @@ def _deepest(x, bucket, start, members, affine, lam, out):  # pragma: no cover
     return found
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def scan_grid(ax, ay, az, lo, h, shape, start, members, affine, cells, bary):  # pragma: no cover
     """Locate the nodes of the grid of axes (ax, ay, az) in C order, as :func:`scan`
     does each point: consecutive nodes share buckets, so no ordering is needed."""

@@ -2,15 +2,14 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import BIN_SLACK
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import orient2d
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bin_index(v, n):  # pragma: no cover
     """Bucket index of a coordinate given in bucket widths, clamped to 0 .. n - 1.
 
@@ -22,7 +21,7 @@ def bin_index(v, n):  # pragma: no cover
     return min(max(int(np.floor(v)), 0), n - 1)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def visit_edges(seg, lo, h, nx, ny, slot, members, fill, by_row):  # pragma: no cover
     """Count (or, with ``fill``, write) the edges of each bucket or row.
 
@@ -54,7 +53,7 @@ def visit_edges(seg, lo, h, nx, ny, slot, members, fill, by_row):  # pragma: no 
                 slot[b] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def inside(x, y, lo, h, ny, seg, row_start, row_members):  # pragma: no cover
     """Even-odd crossing test of one point against the edges of its grid row.
 
@@ -82,13 +81,13 @@ def inside(x, y, lo, h, ny, seg, row_start, row_members):  # pragma: no cover
     return c
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def inside_many(points, lo, h, ny, seg, row_start, row_members, out):  # pragma: no cover
     for p in range(points.shape[0]):
         out[p] = inside(points[p, 0], points[p, 1], lo, h, ny, seg, row_start, row_members)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient(ax, ay, bx, by, cx, cy):  # pragma: no cover
     """Exact sign of the turn a -> b -> c: 1 left, -1 right, 0 collinear.
 
@@ -135,7 +134,7 @@ def _meet(seg, i, j, adjacent):  # pragma: no cover
     )
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def first_pair(seg, following, start, members):  # pragma: no cover
     """Smallest (i, j), i < j, of edges that meet; (-1, -1) if none do."""
     big = seg.shape[0]

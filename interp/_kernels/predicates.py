@@ -17,10 +17,9 @@ degenerate cases of gridded coordinates without the full expansion.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 
 _EPS = 2.0**-53  # half an ulp of 1.0 (the paper's epsilon)
 _SPLITTER = 2.0**27 + 1.0
@@ -200,7 +199,7 @@ def _orient2d_exact(ax, ay, bx, by, cx, cy):  # pragma: no cover
     return _top(_cross(acx, acy, bcx, bcy))
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient2d(ax, ay, bx, by, cx, cy):  # pragma: no cover
     """Twice the signed area of triangle a, b, c: the determinant
     | ax-cx  ay-cy ; bx-cx  by-cy |, with an exact sign.
@@ -277,7 +276,7 @@ def _incircle_exact(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def incircle(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     """The in-circle determinant of d against a, b, c, with an exact sign.
 
@@ -343,7 +342,7 @@ def _orient3d_exact(a, b, c, d):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient3d(a, b, c, d):  # pragma: no cover
     """The determinant | a-d ; b-d ; c-d | (rows), with an exact sign.
 
@@ -415,7 +414,7 @@ def _insphere_exact(a, b, c, d, e):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def insphere(a, b, c, d, e):  # pragma: no cover
     """The in-sphere determinant of e against a, b, c, d, with an exact sign.
 

@@ -2,17 +2,16 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import EMPTY, FLAT, TOLERANCE
-from interp._kernels import inner
+from interp._kernels import inner, kernel
 from interp._kernels.delaunay2d import grow
 from interp._kernels.fit import node_gradient
 from interp._kernels.geometry import inverse_into, sort_small
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def leave_one_out(
     x, v, cells, kept, vc_ptr, vc_idx, ptr, idx, max_edge, tri, bary, grad
 ):  # pragma: no cover
