@@ -6,7 +6,8 @@ Each case copies ``interp/`` and ``data/`` to an empty temporary folder (so no
 compiled kernel is cached), runs in a new Python process with that copy first
 on the path, and prints its wall time and the CPU time of the process (on a
 shared machine the CPU time is the steadier figure); ``--kernels`` also lists the compile
-time of each kernel specialisation (numba's compile events, outermost only).
+time of each kernel specialisation (numba's compile events, outermost only, in CPU
+seconds of the process, so that other jobs on the machine do not inflate them).
 A second, warm run of the same case in the same copy gives the time without
 compiling.
 """
@@ -52,9 +53,9 @@ from numba.core import event
 events = []
 class Listener(event.Listener):
     def on_start(self, ev):
-        events.append((time.perf_counter(), ev))
+        events.append((time.process_time(), ev))
     def on_end(self, ev):
-        events.append((time.perf_counter(), ev))
+        events.append((time.process_time(), ev))
 event.register("numba:compile", Listener())
 """
 

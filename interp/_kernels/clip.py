@@ -2,23 +2,35 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
+from interp._kernels.delaunay2d import grow
 from interp._kernels.geometry import sort_small
 from interp._kernels.polygon import bin_index, inside
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _ccw(t, v):  # pragma: no cover
     """Write triangle t (3, 2) into v in counter-clockwise order; return v."""
-    v[:, :] = t
-    if (v[1, 0] - v[0, 0]) * (v[2, 1] - v[0, 1]) < (v[1, 1] - v[0, 1]) * (v[2, 0] - v[0, 0]):
-        v[1, :], v[2, :] = t[2], t[1]
+    cw = (t[1, 0] - t[0, 0]) * (t[2, 1] - t[0, 1]) < (t[1, 1] - t[0, 1]) * (t[2, 0] - t[0, 0])
+    second, third = (2, 1) if cw else (1, 2)
+    for a in range(2):
+        v[0, a] = t[0, a]
+        v[1, a] = t[second, a]
+        v[2, a] = t[third, a]
     return v
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
+def _put(out, n, tri, c):  # pragma: no cover
+    """out[n] = tri[c] for triangles (3, 2), entry by entry (no array assignment to compile)."""
+    for i in range(3):
+        for a in range(2):
+            out[n, i, a] = tri[c, i, a]
+
+
+@kernel
 def classify(tri, lo, h, nx, ny, occupied, seg, row_start, row_members, status):  # pragma: no cover
     """Status of each triangle: 0 outside, 1 inside, 2 an edge bucket meets its bounding box."""
     gx, gy = lo[0] + nx * h, lo[1] + ny * h
@@ -41,7 +53,7 @@ def classify(tri, lo, h, nx, ny, occupied, seg, row_start, row_members, status):
             status[c] = 1 if inside(cx, cy, lo, h, ny, seg, row_start, row_members) else 0
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _y_at(x0, y0, x1, y1, x):  # pragma: no cover
     """y of the segment (x0 < x1) at x, exact at its ends."""
     if x <= x0:
@@ -51,7 +63,7 @@ def _y_at(x0, y0, x1, y1, x):  # pragma: no cover
     return y0 + (x - x0) * (y1 - y0) / (x1 - x0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
     """The part of segment a-b inside the counter-clockwise triangle v (3, 2)."""
     lo, hi = 0.0, 1.0
@@ -76,7 +88,7 @@ def _clip_segment(v, ax, ay, bx, by):  # pragma: no cover
     return True, px, py, qx, qy
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _distinct(a):  # pragma: no cover
     """Sort ``a`` and move its distinct values to the front (numpy's ``unique``); their count."""
     sort_small(a)
@@ -88,7 +100,7 @@ def _distinct(a):  # pragma: no cover
     return n
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cut_cells(
     tri, cand, lo, h, nx, ny, start, members, seg, row_start, row_members
 ):  # pragma: no cover
@@ -138,15 +150,12 @@ def cut_cells(
                     clipped[ns, 0], clipped[ns, 1], clipped[ns, 2], clipped[ns, 3] = px, py, qx, qy
                     ns += 1
         need = 2 if nb == 3 else 2 * (nb - 1) * (ns + 1)
-        if n + need > out.shape[0]:
-            grown = np.empty((max(2 * out.shape[0], n + need), 3, 2))
-            grown[:n] = out[:n]
-            out = grown
+        out = grow(out, n + need)
         if nb == 3:
             cx = (v[0, 0] + v[1, 0] + v[2, 0]) / 3.0
             cy = (v[0, 1] + v[1, 1] + v[2, 1]) / 3.0
             if inside(cx, cy, lo, h, ny, seg, row_start, row_members):
-                out[n] = tri[c]
+                _put(out, n, tri, c)
                 n += 1
             offsets[kk + 1] = n
             continue
@@ -157,12 +166,12 @@ def cut_cells(
             # row 0 is the triangle's lower side, row 1 its upper side, then the edges
             m = 0
             for k in range(3):
-                p, q = v[k], v[(k + 1) % 3]
-                if p[0] > q[0]:
+                p, q = k, (k + 1) % 3
+                if v[p, 0] > v[q, 0]:
                     p, q = q, p
-                if p[0] < at[2] < q[0]:
+                if v[p, 0] < at[2] < v[q, 0]:
                     for a in range(3):
-                        ys[m, a] = _y_at(p[0], p[1], q[0], q[1], at[a])
+                        ys[m, a] = _y_at(v[p, 0], v[p, 1], v[q, 0], v[q, 1], at[a])
                     m += 1
             if m < 2:
                 continue
@@ -209,7 +218,7 @@ def cut_cells(
     return offsets, out[:n]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _same(p, q):  # pragma: no cover
     """Whether the triangles p and q (3, 2) have the same corners in the same order."""
     for i in range(3):
@@ -218,7 +227,7 @@ def _same(p, q):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
     """Whole inside triangles and the pieces of cut ones, in triangle order.
 
@@ -227,25 +236,26 @@ def assemble(tri, status, offsets, pieces, out, src, whole):  # pragma: no cover
     n, kk = 0, 0
     for c in range(tri.shape[0]):
         if status[c] == 1:
-            out[n] = tri[c]
+            _put(out, n, tri, c)
             src[n] = c
             whole[n] = True
             n += 1
         elif status[c] == 2:
             single = offsets[kk + 1] - offsets[kk] == 1
             for q in range(offsets[kk], offsets[kk + 1]):
-                out[n] = pieces[q]
+                _put(out, n, pieces, q)
                 src[n] = c
                 whole[n] = single and _same(pieces[q], tri[c])
                 n += 1
             kk += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _clip_triangle(subject, v, poly, work):  # pragma: no cover
     """Sutherland-Hodgman: subject triangle clipped by the ccw triangle v; returns the count."""
     n = 3
-    poly[:3] = subject
+    for i in range(3):
+        poly[i, 0], poly[i, 1] = subject[i, 0], subject[i, 1]
     for k in range(3):
         px, py = v[k, 0], v[k, 1]
         ex, ey = v[(k + 1) % 3, 0] - px, v[(k + 1) % 3, 1] - py
@@ -264,13 +274,14 @@ def _clip_triangle(subject, v, poly, work):  # pragma: no cover
                 work[m, 0], work[m, 1] = qx, qy
                 m += 1
         n = m
-        poly[:n] = work[:n]
+        for i in range(n):
+            poly[i, 0], poly[i, 1] = work[i, 0], work[i, 1]
         if n < 3:
             return 0
     return n
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
     """Fan triangles of every non-empty intersection of a cell of a with a cell of b."""
     nb = b.shape[0]
@@ -313,15 +324,13 @@ def intersect(a, b, lo, h, shape, start, members):  # pragma: no cover
                     k = _clip_triangle(u, _ccw(b[d], w), poly, work)
                     if k < 3:
                         continue
-                    if n + k - 2 > out.shape[0]:
-                        grown = np.empty((2 * out.shape[0] + k, 3, 2))
-                        grown[:n] = out[:n]
-                        out = grown
-                        grown_par = np.empty((grown.shape[0], 2), dtype=np.int64)
-                        grown_par[:n] = par[:n]
-                        par = grown_par
+                    out = grow(out, n + k - 2)
+                    par = grow(par, n + k - 2)
                     for f in range(1, k - 1):
-                        out[n, 0], out[n, 1], out[n, 2] = poly[0], poly[f], poly[f + 1]
+                        for e in range(2):
+                            out[n, 0, e] = poly[0, e]
+                            out[n, 1, e] = poly[f, e]
+                            out[n, 2, e] = poly[f + 1, e]
                         par[n, 0], par[n, 1] = c, d
                         n += 1
     return out[:n], par[:n]

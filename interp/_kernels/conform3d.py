@@ -8,13 +8,13 @@ only on the global vertex order (:func:`pulling`), so two cells split the face
 they share the same way.  Geometric decisions are exact predicates.
 """
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import orient3d
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _root(parent, i):  # pragma: no cover
     """Root of ``i`` in a union-find forest, halving the path on the way."""
     while parent[i] != i:
@@ -23,7 +23,7 @@ def _root(parent, i):  # pragma: no cover
     return i
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def clusters(cells, flat, neighbors, planes):  # pragma: no cover
     """Cluster root of each tetrahedron (-1 for flat ones), and the cluster
     across each face.
@@ -90,7 +90,7 @@ def clusters(cells, flat, neighbors, planes):  # pragma: no cover
     return root, across
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _pull_cluster(points, corners, across, pulled, flat_ratio, out, n_out):  # pragma: no cover
     """Pulling triangulation of the convex polytope tiled by the tetrahedra
     ``corners`` (t, 4), written to ``out`` from row ``n_out``.
@@ -225,7 +225,7 @@ def _pull_cluster(points, corners, across, pulled, flat_ratio, out, n_out):  # p
     return n_out
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def pulling(points, cells, across, members, starts, pulled, flat_ratio):  # pragma: no cover
     """Pulling triangulations of clusters of tetrahedra.
 

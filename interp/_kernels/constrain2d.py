@@ -10,14 +10,14 @@ crossings of segments, and the convex hull.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
 from interp._kernels.delaunay2d import CROSSING, LOST, OK, between, grow, slot, vertex_triangles
 from interp._kernels.predicates import incircle, orient2d
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _find_edge(tri, nbr, vt, q, r):  # pragma: no cover
     """A triangle with edge q-r and the slot opposite it, by turning around q;
     (-1, -1) when there is no such edge."""
@@ -34,7 +34,7 @@ def _find_edge(tri, nbr, vt, q, r):  # pragma: no cover
             return -1, -1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _mark(nbr, cons, t, k, kind):  # pragma: no cover
     """Flag the edge opposite slot k of t, on both of its sides."""
     cons[t, k] |= kind
@@ -42,7 +42,7 @@ def _mark(nbr, cons, t, k, kind):  # pragma: no cover
     cons[u, slot(nbr, u, t)] |= kind
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _flip(tri, nbr, cons, vt, t, k):  # pragma: no cover
     """Replace the edge opposite slot k of t by the other diagonal of its quad:
     t = (p, v1, v2), u = (s, v2, v1) become t = (p, v1, s), u = (p, s, v2)."""
@@ -70,12 +70,12 @@ def _flip(tri, nbr, cons, vt, t, k):  # pragma: no cover
     vt[v2] = u
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _opposite_sides(o1, o2):  # pragma: no cover
     return (o1 > 0.0 and o2 < 0.0) or (o1 < 0.0 and o2 > 0.0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _push(stack, n, q, r):  # pragma: no cover
     stack = grow(stack, n + 1)
     stack[n, 0] = q
@@ -83,7 +83,7 @@ def _push(stack, n, q, r):  # pragma: no cover
     return stack, n + 1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pragma: no cover
     """Make segment a-b a union of edges flagged ``kind`` (Sloan's flips); the edges
     made are appended to ``fresh`` for the Delaunay pass.  Returns
@@ -108,7 +108,7 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
                     a = b
                     break
                 oq = orient2d(x[a], y[a], x[b], y[b], x[q], y[q])
-                if oq == 0.0 and between(x, y, a, b, q):
+                if oq == 0.0 and between(x, y, a, b, np.int64(q)):
                     _mark(nbr, cons, t, (ka + 2) % 3, kind)
                     a = q
                     break
@@ -131,7 +131,9 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
         if cons[t, ka] != 0:
             return CROSSING, fresh, nfresh
         work = np.empty((16, 2), dtype=np.int32)
-        work, nwork = _push(work, 0, q, r)
+        work[0, 0] = q
+        work[0, 1] = r
+        nwork = 1
         prev = t
         u = nbr[t, ka]
         end = b
@@ -164,7 +166,7 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
             r = work[head, 1]
             head = (head + 1) % size
             count -= 1
-            t, k = _find_edge(tri, nbr, vt, q, r)
+            t, k = _find_edge(tri, nbr, vt, np.int64(q), np.int64(r))
             p = tri[t, k]
             u = nbr[t, k]
             s = tri[u, slot(nbr, u, t)]
@@ -197,7 +199,7 @@ def _insert_segment(x, y, tri, nbr, cons, vt, a, b, kind, fresh, nfresh):  # pra
     return OK, fresh, nfresh
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
     """Insert segments ``seg[i] = (a, b)`` (vertex indices) flagged ``kind[i]``
     into a Delaunay triangulation, then flip every unflagged edge that is not
@@ -208,7 +210,7 @@ def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
     vt = vertex_triangles(tri, ntri, inf)
     cons = np.zeros((tri.shape[0], 3), dtype=np.int8)
     fresh = np.empty((64, 2), dtype=np.int32)
-    nfresh = 0
+    nfresh = np.int64(0)  # not a literal: one compiled _insert_segment
     for i in range(seg.shape[0]):
         status, fresh, nfresh = _insert_segment(
             x, y, tri, nbr, cons, vt, seg[i, 0], seg[i, 1], kind[i], fresh, nfresh
@@ -219,7 +221,7 @@ def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
         nfresh -= 1
         q = fresh[nfresh, 0]
         r = fresh[nfresh, 1]
-        t, k = _find_edge(tri, nbr, vt, q, r)
+        t, k = _find_edge(tri, nbr, vt, np.int64(q), np.int64(r))
         if t < 0 or cons[t, k] != 0:
             continue
         u = nbr[t, k]
@@ -238,7 +240,7 @@ def constrain(x, y, tri, nbr, ntri, seg, kind):  # pragma: no cover
     return cons, OK, -1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def regions(tri, nbr, cons, ntri, inf, wall):  # pragma: no cover
     """Label the real triangles by the connected regions that edges flagged
     ``wall`` separate (ghosts get -1).  Returns ``(label, first)``: the label of
@@ -271,7 +273,7 @@ def regions(tri, nbr, cons, ntri, inf, wall):  # pragma: no cover
     return label, first[:nreg]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def crossings(ax, ay, bx, by):  # pragma: no cover
     """Pairs of segments a[i]-b[i] that cross at one interior point, and pairs
     that overlap along a piece of positive length (collinear).
@@ -328,7 +330,7 @@ def crossings(ax, ay, bx, by):  # pragma: no cover
     return cross[:nc], where[:nc], overlap[:no]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _collinear_overlap(ax, ay, bx, by, i, j):  # pragma: no cover
     """For collinear segments i and j: whether they share more than a point."""
     if ax[i] != bx[i] or ax[j] != bx[j]:
@@ -340,7 +342,7 @@ def _collinear_overlap(ax, ay, bx, by, i, j):  # pragma: no cover
     return lo < hi
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def convex_hull(x, y, order):  # pragma: no cover
     """Vertices of the convex hull, counter-clockwise, no collinear vertex
     (Andrew's monotone chain over points sorted by x then y, exact turns)."""
@@ -371,7 +373,7 @@ def convex_hull(x, y, order):  # pragma: no cover
     return hull[: h - 1]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def first_outside(x, y, hull, px, py):  # pragma: no cover
     """The first point (px[i], py[i]) strictly outside the convex polygon of
     counter-clockwise vertices ``hull`` (rows of x, y), or -1 (exact)."""

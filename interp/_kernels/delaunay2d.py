@@ -20,9 +20,9 @@ Constraints are inserted by :mod:`interp._kernels.constrain2d`.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import incircle, orient2d
 
 # status codes returned by the kernels
@@ -32,7 +32,7 @@ CROSSING = 2  # a segment crosses a constraint edge
 LOST = 3  # a segment end could not be reached (not a vertex)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def slot(tri, t, v):  # pragma: no cover
     """Position of vertex v in triangle t."""
     if tri[t, 0] == v:
@@ -42,7 +42,7 @@ def slot(tri, t, v):  # pragma: no cover
     return 2
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def between(x, y, u, v, p):  # pragma: no cover
     """For p collinear with u-v: whether p lies strictly inside the segment."""
     if x[u] != x[v]:
@@ -50,7 +50,7 @@ def between(x, y, u, v, p):  # pragma: no cover
     return min(y[u], y[v]) < y[p] < max(y[u], y[v])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _conflict(x, y, tri, t, p, inf):  # pragma: no cover
     """Whether p lies in the open circumcircle of triangle t (ghosts: open outer
     half-plane or open hull edge)."""
@@ -61,21 +61,29 @@ def _conflict(x, y, tri, t, p, inf):  # pragma: no cover
         o = orient2d(x[a], y[a], x[b], y[b], x[p], y[p])
         if o > 0.0:
             return True
-        return o == 0.0 and between(x, y, a, b, p)
+        # the vertices as int64, like the caller in constrain2d: one compiled between
+        return o == 0.0 and between(x, y, np.int64(a), np.int64(b), p)
     return incircle(x[a], y[a], x[b], y[b], x[c], y[c], x[p], y[p]) > 0.0
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def grow(a, n):  # pragma: no cover
-    """a with room for at least n entries."""
+    """a with room for at least n entries (a C-contiguous 1-D or 2-D array).
+
+    The copy is an explicit loop over the flat entries: a slice assignment
+    would compile numba's broadcasting and its error messages as well.
+    """
     if n <= a.shape[0]:
         return a
     b = np.empty((2 * n,) + a.shape[1:], dtype=a.dtype)
-    b[: a.shape[0]] = a
+    src = a.reshape(a.size)
+    dst = b.reshape(b.size)
+    for i in range(a.size):
+        dst[i] = src[i]
     return b
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _first_triangle(x, y, tri, nbr, a, b, c, inf):  # pragma: no cover
     """Triangle 0 = (a, b, c) counter-clockwise and its three ghosts 1..3."""
     if orient2d(x[a], y[a], x[b], y[b], x[c], y[c]) < 0.0:
@@ -94,7 +102,7 @@ def _first_triangle(x, y, tri, nbr, a, b, c, inf):  # pragma: no cover
                         nbr[t, k] = s
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def first_triangle(x, y):  # pragma: no cover
     """The state of an insertion: the triangle of points 0, 1 and the first point
     off their line, and room for the triangulation of all the points.
@@ -120,7 +128,7 @@ def first_triangle(x, y):  # pragma: no cover
     return tri, nbr, mark, start_of, same, third
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi):  # pragma: no cover
     """Insert points ``lo..hi-1`` (point ``third`` is already in) into the state
     of :func:`first_triangle`; returns ``(ntri, last)`` to pass to the next slice
@@ -231,7 +239,7 @@ def insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi):  # 
     return ntri, last
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cells_of(tri, keep, label):  # pragma: no cover
     """The triangles ``t`` with ``keep[t]`` as int64 rows of ``label[vertex]``."""
     m = 0
@@ -248,7 +256,7 @@ def cells_of(tri, keep, label):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def flagged_edges(tri, nbr, cons, ntri, label):  # pragma: no cover
     """Each flagged edge once: (e, 2) int64 rows of ``label[vertex]`` and the flags."""
     m = 0
@@ -269,7 +277,7 @@ def flagged_edges(tri, nbr, cons, ntri, label):  # pragma: no cover
     return out, flags
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def hilbert_keys(x, y, lo_x, lo_y, scale, order):  # pragma: no cover
     """Index of each point along a Hilbert curve of 2**order x 2**order cells
     laid over the box from (lo_x, lo_y) with cell count per unit ``scale``."""
@@ -295,7 +303,7 @@ def hilbert_keys(x, y, lo_x, lo_y, scale, order):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def vertex_triangles(tri, ntri, n):  # pragma: no cover
     """A triangle holding each vertex (the vertex at infinity included)."""
     vt = np.full(n + 1, -1, dtype=np.int32)

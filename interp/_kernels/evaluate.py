@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import numba
+from interp._kernels import kernel
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def combine(weights, nodes, cells, values, outside, out):  # pragma: no cover
     """out[p] = sum_k weights[p, k] values[nodes[cells[p], k]]; ``outside`` where cells[p] < 0.
 

@@ -2,14 +2,14 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import MIN_RCOND, MIN_RCOND_LINEAR, ONE_SIDED
+from interp._kernels import inner, kernel
 from interp._kernels.geometry import sort_small
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def _recover(
     x, v, ptr, idx, over_node, over_ptr, over_idx, grad, lo, hi, mark, members
 ):  # pragma: no cover
@@ -19,7 +19,7 @@ def _recover(
         _node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _node_gradient(
     node, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, grad
 ):  # pragma: no cover
@@ -44,7 +44,7 @@ def _node_gradient(
     mark[node] = stamp
     count = _add_ring(node, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, 1)
     if count == 1:
-        grad[:] = np.nan
+        _no_gradient(grad)
         return
     ring1 = count
     sort_small(members[1:count])
@@ -60,10 +60,18 @@ def _node_gradient(
     if count > ring1 and _local_fit(x, v, node, members, count, np.int64(2), grad) >= MIN_RCOND:
         return
     if _local_fit(x, v, node, members, count, np.int64(1), grad) < MIN_RCOND_LINEAR:
-        grad[:] = np.nan
+        _no_gradient(grad)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
+def _no_gradient(grad):  # pragma: no cover
+    """NaN into every entry of ``grad`` (d, c), by a loop (no array assignment to compile)."""
+    for k in range(grad.shape[0]):
+        for c in range(grad.shape[1]):
+            grad[k, c] = np.nan
+
+
+@inner
 def _one_sided(x, node, members, count):  # pragma: no cover
     """True when the ``members`` lie on one side of a plane (2D: line, 1D: point) through ``node``.
 
@@ -75,7 +83,8 @@ def _one_sided(x, node, members, count):  # pragma: no cover
     d, m = x.shape[1], count - 1
     y = np.empty((m, d))
     for r in range(m):
-        y[r] = x[members[r + 1]] - x[node]
+        for a in range(d):
+            y[r, a] = x[members[r + 1], a] - x[node, a]
     normal = np.ones(d)
     if d == 1:
         return _supports(normal, y)
@@ -94,20 +103,27 @@ def _one_sided(x, node, members, count):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _supports(normal, y):  # pragma: no cover
     """True when every row of ``y`` is on one side of the plane through 0 normal to ``normal``.
 
     A row within a relative ``ONE_SIDED`` of the plane counts as on either side; a
     zero normal (members in line with the node) supports nothing.
     """
-    size = np.sqrt(np.sum(normal**2))
+    d = normal.size
+    size = 0.0
+    for a in range(d):
+        size += normal[a] ** 2
+    size = np.sqrt(size)
     if size == 0.0:
         return False
     above = below = False
     for r in range(y.shape[0]):
-        s = np.dot(normal, y[r])
-        tol = ONE_SIDED * size * np.sqrt(np.sum(y[r] ** 2))
+        s, length = 0.0, 0.0
+        for a in range(d):
+            s += normal[a] * y[r, a]
+            length += y[r, a] ** 2
+        tol = ONE_SIDED * size * np.sqrt(length)
         above |= s > tol
         below |= s < -tol
         if above and below:
@@ -115,7 +131,7 @@ def _supports(normal, y):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _add_ring(
     q, ptr, idx, over_node, over_ptr, over_idx, mark, stamp, members, count
 ):  # pragma: no cover
@@ -134,7 +150,7 @@ def _add_ring(
     return count
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
     """Least-squares polynomial of ``degree`` through the ``members``, centred at ``node``.
 
@@ -166,7 +182,8 @@ def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
                 for m in range(k, d):
                     a[r, col] = a[r, 1 + k] * a[r, 1 + m]
                     col += 1
-        b[r] = v[j]
+        for c in range(v.shape[1]):
+            b[r, c] = v[j, c]
     norm = np.empty(nc)
     for k in range(nc):
         s = 0.0
@@ -181,11 +198,13 @@ def _local_fit(x, v, node, members, count, degree, grad):  # pragma: no cover
     rcond = _lstsq(a, b, coef, min_rcond)
     if rcond >= min_rcond:
         for k in range(d):
-            grad[k] = coef[1 + k] / (norm[1 + k] * h)
+            scale = norm[1 + k] * h
+            for c in range(v.shape[1]):
+                grad[k, c] = coef[1 + k, c] / scale
     return rcond
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _lstsq(a, b, out, min_rcond):  # pragma: no cover
     """Least squares ``a @ out ~ b`` by Householder QR with column pivoting.
 
@@ -228,7 +247,7 @@ def _lstsq(a, b, out, min_rcond):  # pragma: no cover
     return rcond
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _reflect(w, ww, j, a, first):  # pragma: no cover
     """Apply the Householder reflection I - 2 w w^T / ww (rows j:) to columns first: of a."""
     for k in range(first, a.shape[1]):

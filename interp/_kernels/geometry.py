@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
 
-@numba.njit(cache=True, nogil=True)
+
+@inner
 def _det(a, n):  # pragma: no cover
     """Determinant of the leading n x n block of a (n <= 3), expanded as :func:`det`."""
     if n == 1:
@@ -20,7 +21,7 @@ def _det(a, n):  # pragma: no cover
     )
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def measure_and_size(corners, vol, size):  # pragma: no cover
     """|det E| (or sqrt det E E^T) and the largest |E| entry of each simplex's edges E."""
     m, k, g = corners.shape
@@ -46,7 +47,7 @@ def measure_and_size(corners, vol, size):  # pragma: no cover
         vol[c] = np.sqrt(max(_det(gram, t), 0.0))
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def inverse_into(e, g, inv):  # pragma: no cover
     """Inverse of the g x g matrix ``e`` (g <= 3) into ``inv`` by the adjugate, and
     its determinant (``inv`` is meaningless when that is 0)."""
@@ -75,7 +76,7 @@ def inverse_into(e, g, inv):  # pragma: no cover
     return d
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def affine_maps(points, corners, affine, c0, c1):  # pragma: no cover
     """Affine map to barycentric coordinates of cells c0 to c1 - 1 of a mesh whose
     cells fill their space: ``bary[1:] = x @ affine[c, :g] + affine[c, g]``."""
@@ -96,7 +97,7 @@ def affine_maps(points, corners, affine, c0, c1):  # pragma: no cover
             affine[c, g, b] = shift
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bad_cells(cells, n):  # pragma: no cover
     """Cells with a node index outside 0..n-1, and cells that repeat a node."""
     m, k = cells.shape
@@ -112,7 +113,7 @@ def bad_cells(cells, n):  # pragma: no cover
     return np.flatnonzero(out_of_range), np.flatnonzero(repeated)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def sort_small(a):  # pragma: no cover
     """Sort the short 1-D array ``a`` in place, by insertion.
 

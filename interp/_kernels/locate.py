@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import MARGIN, TIE, TOLERANCE
+from interp._kernels import inner, kernel
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def cell_boxes(points, corners, lo, h, shape, pad, i0, i1, c0, c1):  # pragma: no cover
     """Bucket range of the bounding box of cells c0 to c1 - 1."""
     g = i0.shape[1]
@@ -24,7 +24,7 @@ def cell_boxes(points, corners, lo, h, shape, pad, i0, i1, c0, c1):  # pragma: n
             i1[c, a] = min(max(int(np.floor((cmax + pad - lo[a]) / h[a])), 0), shape[a] - 1)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _rows_of(i0, i1, c, a0, a1):  # pragma: no cover
     """Rows of cell c's box in the slab a0 <= i < a1 of the first axis: the ranges
     of i and j (the axes before the last; a single row in 1D) and i's first value."""
@@ -35,7 +35,7 @@ def _rows_of(i0, i1, c, a0, a1):  # pragma: no cover
     return max(i0[c, 0], a0), min(i1[c, 0], a1 - 1), j0, j1, i0[c, 0]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count):  # pragma: no cover
     """The run of buckets each row of each cell's box keeps, and the count per bucket,
     for the rows in the slab a0 <= i < a1; ``first[c]`` is cell c's first row.
@@ -100,7 +100,7 @@ def find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count):  # prag
                     count[row + k] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members):  # pragma: no cover
     """Write each cell into the buckets of its runs in the slab a0 <= i < a1, at
     ``slot`` (cells in ascending order)."""
@@ -115,7 +115,7 @@ def fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members):  # pragma: no 
                     slot[row + k] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _row(i, j, g, shape):  # pragma: no cover
     """Flat index of the first bucket of row (i, j) along the last axis."""
     row = i if g > 1 else 0
@@ -124,14 +124,14 @@ def _row(i, j, g, shape):  # pragma: no cover
     return row * shape[g - 1]
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bucket_of(x, lo, h, shape, flat):  # pragma: no cover
     """Bucket of each point, -1 outside the grid or NaN."""
     for p in range(x.shape[0]):
         flat[p] = _bucket(x[p], lo, h, shape)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _bucket(x, lo, h, shape):  # pragma: no cover
     """Bucket of point ``x`` (its first len(lo) coordinates), -1 outside or NaN."""
     b = 0
@@ -143,7 +143,7 @@ def _bucket(x, lo, h, shape):  # pragma: no cover
     return b
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def counting_order(flat, n_buckets):  # pragma: no cover
     """Stable order of the points by bucket (points outside first), by counting."""
     first = np.zeros(n_buckets + 2, dtype=np.int64)
@@ -158,7 +158,7 @@ def counting_order(flat, n_buckets):  # pragma: no cover
     return order
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cover
     """Locate the points, visiting them in ``order``.
 
@@ -186,7 +186,7 @@ def scan(x, flat, order, start, members, affine, cells, bary):  # pragma: no cov
                 bary[p, b] = coords[i, b]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _deepest(x, bucket, start, members, affine, lam, out):  # pragma: no cover
     """The cell of ``bucket`` that contains point ``x`` deepest (-1 if none), its
     barycentric coordinates written to ``out``; ``lam`` is scratch space."""
@@ -217,7 +217,7 @@ def _deepest(x, bucket, start, members, affine, lam, out):  # pragma: no cover
     return found
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def scan_grid(ax, ay, az, lo, h, shape, start, members, affine, cells, bary):  # pragma: no cover
     """Locate the nodes of the grid of axes (ax, ay, az) in C order, as :func:`scan`
     does each point: consecutive nodes share buckets, so no ordering is needed."""

@@ -2,14 +2,14 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import BIN_SLACK
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import orient2d
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def bin_index(v, n):  # pragma: no cover
     """Bucket index of a coordinate given in bucket widths, clamped to 0 .. n - 1.
 
@@ -21,7 +21,7 @@ def bin_index(v, n):  # pragma: no cover
     return min(max(int(np.floor(v)), 0), n - 1)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def visit_edges(seg, lo, h, nx, ny, slot, members, fill, by_row):  # pragma: no cover
     """Count (or, with ``fill``, write) the edges of each bucket or row.
 
@@ -53,7 +53,7 @@ def visit_edges(seg, lo, h, nx, ny, slot, members, fill, by_row):  # pragma: no 
                 slot[b] += 1
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def inside(x, y, lo, h, ny, seg, row_start, row_members):  # pragma: no cover
     """Even-odd crossing test of one point against the edges of its grid row.
 
@@ -81,13 +81,13 @@ def inside(x, y, lo, h, ny, seg, row_start, row_members):  # pragma: no cover
     return c
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def inside_many(points, lo, h, ny, seg, row_start, row_members, out):  # pragma: no cover
     for p in range(points.shape[0]):
         out[p] = inside(points[p, 0], points[p, 1], lo, h, ny, seg, row_start, row_members)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient(ax, ay, bx, by, cx, cy):  # pragma: no cover
     """Exact sign of the turn a -> b -> c: 1 left, -1 right, 0 collinear.
 
@@ -103,13 +103,13 @@ def orient(ax, ay, bx, by, cx, cy):  # pragma: no cover
     return 1 if o > 0.0 else (-1 if o < 0.0 else 0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _on_segment(px, py, qx, qy, rx, ry):  # pragma: no cover
     """For r collinear with p-q: whether r lies on the closed segment p-q."""
     return min(px, qx) <= rx <= max(px, qx) and min(py, qy) <= ry <= max(py, qy)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _meet(seg, i, j, adjacent):  # pragma: no cover
     """Whether edges i and j share a point they should not."""
     px, py, qx, qy = seg[i, 0], seg[i, 1], seg[i, 2], seg[i, 3]
@@ -134,7 +134,7 @@ def _meet(seg, i, j, adjacent):  # pragma: no cover
     )
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def first_pair(seg, following, start, members):  # pragma: no cover
     """Smallest (i, j), i < j, of edges that meet; (-1, -1) if none do."""
     big = seg.shape[0]
@@ -154,13 +154,10 @@ def first_pair(seg, following, start, members):  # pragma: no cover
                     or max(seg[j, 1], seg[j, 3]) < min(seg[i, 1], seg[i, 3])
                 ):
                     continue
-                if following[i] == j:
-                    hit = _meet(seg, i, j, True)
-                elif following[j] == i:
-                    hit = _meet(seg, j, i, True)
-                else:
-                    hit = _meet(seg, i, j, False)
-                if hit:
+                # one specialisation of _meet: ``adjacent`` a run-time bool, not a literal
+                adjacent = following[i] == j or following[j] == i
+                first, second = (j, i) if following[i] != j and following[j] == i else (i, j)
+                if _meet(seg, first, second, adjacent):
                     bi, bj = i, j
     if bi == big:
         return -1, -1

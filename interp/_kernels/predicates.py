@@ -17,8 +17,9 @@ degenerate cases of gridded coordinates without the full expansion.
 
 from __future__ import annotations
 
-import numba
 import numpy as np
+
+from interp._kernels import inner, kernel
 
 _EPS = 2.0**-53  # half an ulp of 1.0 (the paper's epsilon)
 _SPLITTER = 2.0**27 + 1.0
@@ -31,7 +32,7 @@ _O3D_A = (7.0 + 56.0 * _EPS) * _EPS
 _ISP_A = (16.0 + 224.0 * _EPS) * _EPS
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def two_sum(a, b):  # pragma: no cover
     """a + b as x + y exactly, x = fl(a + b) (Knuth's branch-free sum)."""
     x = a + b
@@ -40,14 +41,14 @@ def two_sum(a, b):  # pragma: no cover
     return x, (a - av) + (b - bv)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _fast_two_sum(a, b):  # pragma: no cover
     """a + b as x + y exactly, for |a| >= |b| (or a == 0)."""
     x = a + b
     return x, b - (x - a)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def two_diff(a, b):  # pragma: no cover
     """a - b as x + y exactly, x = fl(a - b)."""
     x = a - b
@@ -56,7 +57,7 @@ def two_diff(a, b):  # pragma: no cover
     return x, (a - av) + (bv - b)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _split(a):  # pragma: no cover
     """a = hi + lo with each half of at most 26 significant bits (Dekker)."""
     c = _SPLITTER * a
@@ -64,7 +65,7 @@ def _split(a):  # pragma: no cover
     return hi, a - hi
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _product_presplit(a, b, bhi, blo):  # pragma: no cover
     """a * b as x + y exactly, b already split into bhi + blo."""
     x = a * b
@@ -72,14 +73,14 @@ def _product_presplit(a, b, bhi, blo):  # pragma: no cover
     return x, alo * blo - (((x - ahi * bhi) - alo * bhi) - ahi * blo)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def two_product(a, b):  # pragma: no cover
     """a * b as x + y exactly, x = fl(a * b) (Dekker's splitting)."""
     bhi, blo = _split(b)
     return _product_presplit(a, b, bhi, blo)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _keep(h, n, v):  # pragma: no cover
     """Append v to h[:n] unless it is zero; the new length."""
     if v != 0.0:
@@ -88,7 +89,7 @@ def _keep(h, n, v):  # pragma: no cover
     return n
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _close(h, n, q):  # pragma: no cover
     """h[:n] with the last component q (kept when zero only if it is the only one)."""
     if q != 0.0 or n == 0:
@@ -97,7 +98,7 @@ def _close(h, n, q):  # pragma: no cover
     return h[:n]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _sum_rest(q, src, i, h, n):  # pragma: no cover
     """Add src[i:] into the running sum q, keeping the non-zero tails in h."""
     for j in range(i, src.size):
@@ -106,7 +107,7 @@ def _sum_rest(q, src, i, h, n):  # pragma: no cover
     return q, n
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def fast_expansion_sum_zeroelim(e, f):  # pragma: no cover
     """Exact sum of two expansions (components in increasing magnitude), zero
     components removed; the paper's FAST-EXPANSION-SUM.  Never empty: zero is [0.0]."""
@@ -137,7 +138,7 @@ def fast_expansion_sum_zeroelim(e, f):  # pragma: no cover
     return _close(h, n, q)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def scale_expansion_zeroelim(e, b):  # pragma: no cover
     """Exact product of an expansion and a double, zero components removed; the
     paper's SCALE-EXPANSION.  Never empty: zero is [0.0]."""
@@ -154,7 +155,7 @@ def scale_expansion_zeroelim(e, b):  # pragma: no cover
     return _close(h, n, q)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _mul(e, f):  # pragma: no cover
     """Exact product of two expansions: the sum of e scaled by each component of f."""
     h = scale_expansion_zeroelim(e, f[0])
@@ -163,12 +164,12 @@ def _mul(e, f):  # pragma: no cover
     return h
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _sub(e, f):  # pragma: no cover
     return fast_expansion_sum_zeroelim(e, -f)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _exact_diff(a, b):  # pragma: no cover
     """a - b as an expansion of one or two components."""
     x, y = two_diff(a, b)
@@ -177,19 +178,19 @@ def _exact_diff(a, b):  # pragma: no cover
     return np.array([y, x])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _cross(ax, ay, bx, by):  # pragma: no cover
     """ax * by - ay * bx exactly, for expansions."""
     return _sub(_mul(ax, by), _mul(ay, bx))
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _top(e):  # pragma: no cover
     """The most significant component: the sign (and approximate value) of e."""
     return e[e.size - 1]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orient2d_exact(ax, ay, bx, by, cx, cy):  # pragma: no cover
     acx = _exact_diff(ax, cx)
     acy = _exact_diff(ay, cy)
@@ -198,7 +199,7 @@ def _orient2d_exact(ax, ay, bx, by, cx, cy):  # pragma: no cover
     return _top(_cross(acx, acy, bcx, bcy))
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient2d(ax, ay, bx, by, cx, cy):  # pragma: no cover
     """Twice the signed area of triangle a, b, c: the determinant
     | ax-cx  ay-cy ; bx-cx  by-cy |, with an exact sign.
@@ -231,7 +232,7 @@ def orient2d(ax, ay, bx, by, cx, cy):  # pragma: no cover
     return _orient2d_adapt(ax, ay, bx, by, cx, cy, detsum)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orient2d_adapt(ax, ay, bx, by, cx, cy, detsum):  # pragma: no cover
     """The paper's stages B and C, then the exact determinant."""
     acx, acxt = two_diff(ax, cx)
@@ -258,7 +259,7 @@ def _orient2d_adapt(ax, ay, bx, by, cx, cy, detsum):  # pragma: no cover
     return _orient2d_exact(ax, ay, bx, by, cx, cy)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _incircle_exact(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     adx = _exact_diff(ax, dx)
     ady = _exact_diff(ay, dy)
@@ -275,7 +276,7 @@ def _incircle_exact(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def incircle(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     """The in-circle determinant of d against a, b, c, with an exact sign.
 
@@ -318,13 +319,13 @@ def incircle(ax, ay, bx, by, cx, cy, dx, dy):  # pragma: no cover
     return _incircle_exact(ax, ay, bx, by, cx, cy, dx, dy)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _minus(a, d):  # pragma: no cover
     """The rounded coordinate differences a - d of two 3D points."""
     return a[0] - d[0], a[1] - d[1], a[2] - d[2]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orient3d_exact(a, b, c, d):  # pragma: no cover
     adx = _exact_diff(a[0], d[0])
     ady = _exact_diff(a[1], d[1])
@@ -341,7 +342,7 @@ def _orient3d_exact(a, b, c, d):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def orient3d(a, b, c, d):  # pragma: no cover
     """The determinant | a-d ; b-d ; c-d | (rows), with an exact sign.
 
@@ -381,7 +382,7 @@ def orient3d(a, b, c, d):  # pragma: no cover
     return _orient3d_exact(a, b, c, d)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _insphere_exact(a, b, c, d, e):  # pragma: no cover
     p = (a, b, c, d)
     dx = [_exact_diff(q[0], e[0]) for q in p]
@@ -413,7 +414,7 @@ def _insphere_exact(a, b, c, d, e):  # pragma: no cover
     return _top(det)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def insphere(a, b, c, d, e):  # pragma: no cover
     """The in-sphere determinant of e against a, b, c, d, with an exact sign.
 

@@ -2,15 +2,16 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from interp._geometry import EMPTY, FLAT, TOLERANCE
+from interp._kernels import inner, kernel
+from interp._kernels.delaunay2d import grow
 from interp._kernels.fit import node_gradient
 from interp._kernels.geometry import inverse_into, sort_small
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def leave_one_out(
     x, v, cells, kept, vc_ptr, vc_idx, ptr, idx, max_edge, tri, bary, grad, lo, hi, scratch_n, stamp
 ):  # pragma: no cover
@@ -60,14 +61,16 @@ def leave_one_out(
         for i in range(r):
             combo[i] = i
         while True:
-            if _origin_bary(table, combo, face, lam) and lam.min() >= -TOLERANCE:
+            if _origin_bary(table, combo, face, lam) and _smallest(lam) >= -TOLERANCE:
                 for i in range(r):
-                    verts[i] = y[combo[i]]
+                    for a in range(d):
+                        verts[i, a] = y[combo[i], a]
                 if _inverse(verts, inv) and _empty(y, lift, combo, verts[0], inv, scratch):
-                    if lam.min() > deepest:
-                        deepest = lam.min()
-                        best[:] = combo
-                        best_lam[:] = lam
+                    if _smallest(lam) > deepest:
+                        deepest = _smallest(lam)
+                        for i in range(r):
+                            best[i] = combo[i]
+                            best_lam[i] = lam[i]
                     if deepest > TOLERANCE:
                         break
             if not _next_combo(combo, k):
@@ -103,7 +106,7 @@ def leave_one_out(
     return stamp
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _local_coordinates(x, p, link, local):  # pragma: no cover
     """Link vertices sorted by distance from p (in place), centred on p and scaled to radius 1.
 
@@ -116,7 +119,9 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     for i in range(k):
         dist[i] = _distance(x, link[i], p)
     order = np.argsort(dist)
-    link[:] = link[order]
+    unsorted = link.copy()
+    for i in range(k):
+        link[i] = unsorted[order[i]]
     radius = dist[order[-1]]
     y = np.empty((k, d))
     lift = np.empty(k)
@@ -129,7 +134,7 @@ def _local_coordinates(x, p, link, local):  # pragma: no cover
     return y, lift
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orientations(y):  # pragma: no cover
     """Determinant of every d-subset of the rows of ``y`` (k, d), at its combinadic rank."""
     k, d = y.shape
@@ -153,7 +158,7 @@ def _orientations(y):  # pragma: no cover
             return table
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _origin_bary(table, combo, face, lam):  # pragma: no cover
     """Barycentric coordinates of the origin in the simplex ``combo`` from the d-subset table.
 
@@ -174,7 +179,7 @@ def _origin_bary(table, combo, face, lam):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _choose(n, k):  # pragma: no cover
     """Binomial coefficient C(n, k) for k <= 3 (0 when n < k)."""
     out = 1
@@ -183,7 +188,7 @@ def _choose(n, k):  # pragma: no cover
     return max(out, 0)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _rank(face):  # pragma: no cover
     """Combinadic rank of an increasing choice: sum of C(face[t], t + 1)."""
     out = 0
@@ -192,7 +197,7 @@ def _rank(face):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _boundary(cells, star_cells, p, local):  # pragma: no cover
     """The faces opposite p of the cells around it, as sorted link-local ids (s, d)."""
     d = cells.shape[1] - 1
@@ -208,7 +213,7 @@ def _boundary(cells, star_cells, p, local):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _star_cells(y, first, boundary):  # pragma: no cover
     """Cells of Delaunay(link) filling p's star, grown from ``first`` across inner faces.
 
@@ -218,7 +223,8 @@ def _star_cells(y, first, boundary):  # pragma: no cover
     """
     r = first.size
     cells = np.empty((4 * y.shape[0] + 16, r), dtype=np.int64)
-    cells[0] = first
+    for i in range(r):
+        cells[0, i] = first[i]
     count, head = 1, 0
     face = np.empty(r - 1, dtype=np.int64)
     cand = np.empty(r, dtype=np.int64)
@@ -232,20 +238,21 @@ def _star_cells(y, first, boundary):  # pragma: no cover
             e = _apex(y, face, cells[head, i], c0, nrm)
             if e < 0:
                 continue
-            cand[: r - 1] = face
+            for j in range(r - 1):
+                cand[j] = face[j]
             cand[r - 1] = e
             sort_small(cand)
             if _has_row(cells, count, cand):
                 continue
-            if count == cells.shape[0]:
-                cells = _grow(cells)
-            cells[count] = cand
+            cells = grow(cells, count + 1)
+            for j in range(r):
+                cells[count, j] = cand[j]
             count += 1
         head += 1
     return cells, count
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _has_row(rows, count, row):  # pragma: no cover
     """Whether ``row`` is one of the first ``count`` rows of ``rows``."""
     for i in range(count):
@@ -259,7 +266,7 @@ def _has_row(rows, count, row):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     """The Delaunay neighbour across ``face`` from the vertex ``opposite``: its new vertex.
 
@@ -278,19 +285,29 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
         c0[0], c0[1] = g0[0] + 0.5 * a0, g0[1] + 0.5 * a1
         nrm[0], nrm[1] = -a1, a0
     else:
-        a = y[face[1]] - g0
-        b = y[face[2]] - g0
-        _cross(a, b, nrm)
-        w = np.sum(a**2) * b - np.sum(b**2) * a
+        ea, eb, w = np.empty(3), np.empty(3), np.empty(3)
+        aa, bb = 0.0, 0.0
+        for k in range(3):
+            ea[k] = y[face[1], k] - g0[k]
+            eb[k] = y[face[2], k] - g0[k]
+            aa += ea[k] ** 2
+            bb += eb[k] ** 2
+        _cross(ea, eb, nrm)
+        nn = 0.0
+        for k in range(3):
+            w[k] = aa * eb[k] - bb * ea[k]
+            nn += nrm[k] ** 2
         _cross(w, nrm, c0)
-        c0[:] = g0 + c0 / (2.0 * np.sum(nrm**2))
+        for k in range(3):
+            c0[k] = g0[k] + c0[k] / (2.0 * nn)
     side, size, r0 = 0.0, 0.0, 0.0
     for a in range(d):
         side += nrm[a] * (y[opposite, a] - c0[a])
         size += nrm[a] ** 2
         r0 += (g0[a] - c0[a]) ** 2
     if side > 0:
-        nrm *= -1.0
+        for a in range(d):
+            nrm[a] = -nrm[a]
     size = np.sqrt(size)
     best, best_t = -1, np.inf
     for e in range(y.shape[0]):
@@ -306,7 +323,7 @@ def _apex(y, face, opposite, c0, nrm):  # pragma: no cover
     return best
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _cross(a, b, out):  # pragma: no cover
     """The cross product of the 3-vectors a and b into ``out`` (numpy's formula)."""
     out[0] = a[1] * b[2] - a[2] * b[1]
@@ -314,7 +331,7 @@ def _cross(a, b, out):  # pragma: no cover
     out[2] = a[0] * b[1] - a[1] * b[0]
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _new_rings(
     x, cells, kept, vc_ptr, vc_idx, p, link, k, new, n_new, max_edge, mark, stamp
 ):  # pragma: no cover
@@ -361,7 +378,7 @@ def _new_rings(
     return over_ptr, over_idx, stamp
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _empty(y, lift, combo, origin, inv, lam):  # pragma: no cover
     """Whether no link vertex lies inside the circumsphere of the simplex ``combo``.
 
@@ -385,20 +402,23 @@ def _empty(y, lift, combo, origin, inv, lam):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _inverse(verts, inv):  # pragma: no cover
     """Inverse of the edge matrix (rows verts[i + 1] - verts[0]) into ``inv``; False if flat."""
     d = verts.shape[1]
     e = np.empty((d, d))
     size = 1.0
     for i in range(d):
-        e[i] = verts[i + 1] - verts[0]
-        size *= np.sqrt(np.sum(e[i] ** 2))
+        length = 0.0
+        for a in range(d):
+            e[i, a] = verts[i + 1, a] - verts[0, a]
+            length += e[i, a] ** 2
+        size *= np.sqrt(length)
     det = inverse_into(e, d, inv)
     return size > 0.0 and abs(det) > FLAT * size
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _bary(z, origin, inv, lam):  # pragma: no cover
     """Barycentric coordinates of z in the simplex with corner ``origin`` and edge inverse."""
     d = z.size
@@ -412,7 +432,7 @@ def _bary(z, origin, inv, lam):  # pragma: no cover
     lam[0] = 1.0 - s
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _longest(x, link, combo):  # pragma: no cover
     """Longest edge of the simplex of link vertices ``combo``, in the points' coordinates."""
     out = 0.0
@@ -422,7 +442,7 @@ def _longest(x, link, combo):  # pragma: no cover
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _distance(x, a, b):  # pragma: no cover
     """Euclidean distance between points a and b of ``x``."""
     s = 0.0
@@ -431,7 +451,7 @@ def _distance(x, a, b):  # pragma: no cover
     return np.sqrt(s)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _holds(rows, i, value):  # pragma: no cover
     """Whether row i of the small 2-D array ``rows`` holds ``value``."""
     for t in range(rows.shape[1]):
@@ -440,7 +460,7 @@ def _holds(rows, i, value):  # pragma: no cover
     return False
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _next_combo(combo, k):  # pragma: no cover
     """Advance ``combo`` to the next increasing choice from range(k); False after the last."""
     r = combo.size
@@ -455,9 +475,10 @@ def _next_combo(combo, k):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
-def _grow(rows):  # pragma: no cover
-    """The same rows in an array twice as long."""
-    out = np.empty((2 * rows.shape[0], rows.shape[1]), dtype=rows.dtype)
-    out[: rows.shape[0]] = rows
+@inner
+def _smallest(a):  # pragma: no cover
+    """The smallest entry of the 1-D array ``a`` (finite entries), by a loop."""
+    out = a[0]
+    for i in range(1, a.size):
+        out = min(out, a[i])
     return out
