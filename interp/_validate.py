@@ -39,16 +39,19 @@ a brute-force leave-one-out is just as ambiguous there.
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
 
 from interp._arrays import as_points, positive
-from interp._fit import midpoint, neighbours, samples
+from interp._breaklines import as_lines
+from interp._fit import Samples, adjacency, midpoint, neighbours, node_values, samples
 from interp._geometry import short_cells
 from interp._kernels.validate import leave_one_out
-from interp._triangulate import inside_boundary, triangulate
+from interp._kernels.validate2d import ON_LINE, leave_one_out2d
+from interp._triangulate import mesh_and_added, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
 from interp.io import write_table
@@ -62,6 +65,7 @@ def crossvalidate(
     order: int = 1,
     max_edge: float | None = None,
     boundary: object | None = None,
+    breaklines: list[object] | None = None,
 ) -> np.ndarray:
     """Leave-one-out residuals: each measured value minus its prediction from all the others.
 
@@ -120,37 +124,12 @@ def crossvalidate(
     [nan, nan, nan, nan, 1.0]
     """
     data = samples(points, values, order)
-    mesh = triangulate(data.unique)
-    x, cells = mesh.points, mesh.cells
-    kept = np.ones(len(cells), dtype=bool)
-    limit = np.inf
-    if max_edge is not None:
-        limit = positive(max_edge, "max_edge")
-        kept = short_cells(x, cells, limit)
-        if not kept.any():
-            raise InterpError(f"max_edge={max_edge} removes every cell; use a larger max_edge")
-    if boundary is not None:
-        kept &= inside_boundary(x, cells, boundary)
-        if not kept.any():
-            raise InterpError(
-                "the boundary mask removes every cell; check that the boundary surrounds the points"
-            )
-    used = np.bincount(cells[kept].ravel(), minlength=len(x)) > 0
-    ptr, idx = np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64)
-    if order == 2:
-        ptr, idx = neighbours(Mesh(x, cells[kept]))
-    d = x.shape[1]
-    tri = np.full((len(x), d + 1), -1, dtype=np.int64)
-    bary = np.full((len(x), d + 1), np.nan)
-    grad = np.full((len(x) if order == 2 else 0, d + 1, d, data.mean.shape[1]), np.nan)
-    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
-    p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
-    leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, p2_grad)
-    if boundary is not None:
-        # the cell of the others' triangulation that holds each point, masked as the fit's
-        found = np.flatnonzero(tri[:, 0] >= 0)
-        tri[found[~inside_boundary(x, tri[found], boundary)]] = -1
-    predicted = _predict(x, data.mean, tri, bary, grad)
+    limit = np.inf if max_edge is None else positive(max_edge, "max_edge")
+    if breaklines is None and boundary is None:
+        x, tri, bary, nodal, grad, used = _plain(data, order, limit)
+    else:
+        x, tri, bary, nodal, grad, used = _constrained(data, order, limit, boundary, breaklines)
+    predicted = _predict(x, tri, bary, nodal, grad)
     # a repeated location: the others' fit holds the mean of its other measurements there
     rows = np.flatnonzero(data.valid)
     u = data.inverse[rows]
@@ -252,6 +231,140 @@ def write_residuals(
     return write_table(path, header, columns)
 
 
+def _plain(data: Samples, order: int, limit: float) -> tuple[np.ndarray, ...]:
+    """The mesh nodes; the cell of the others' Delaunay triangulation holding
+    each point, its barycentric coordinates, corner values and (P2) corner
+    gradients; and which points some cell uses."""
+    mesh = triangulate(data.unique)
+    x, cells = mesh.points, mesh.cells
+    kept = _short(x, cells, limit)
+    ptr, idx = _rings(mesh, kept, order)
+    tri, bary, grad = _outputs(len(x), x.shape[1], data.mean.shape[1], order)
+    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
+    p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
+    leave_one_out(x, data.mean, cells, kept, vc_ptr, vc_idx, ptr, idx, limit, tri, bary, p2_grad)
+    nodal = data.mean[np.maximum(tri, 0)]
+    return x, tri, bary, nodal, grad, _used(cells, kept, len(x))
+
+
+def _constrained(
+    data: Samples, order: int, limit: float, boundary: object, breaklines: object
+) -> tuple[np.ndarray, ...]:
+    """As :func:`_plain`, on the constrained triangulation that ``fit`` builds
+    with the breaklines and boundary; warns about the points on them that get
+    no residual."""
+    mesh, added, edges = mesh_and_added(data.unique, None, boundary, breaklines)
+    x, cells = mesh.points, mesh.cells
+    n = len(data.unique)
+    v = node_values(data, mesh, added)
+    kept = _short(x, cells, limit)
+    ptr, idx = _rings(mesh, kept, order)
+    tri, bary, grad = _outputs(n, 2, v.shape[1], order)
+    nodal = np.full((n, 3, v.shape[1]), np.nan)
+    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
+    cptr, cidx = adjacency(edges, len(x))
+    plain = triangulate(data.unique).cells
+    pvc_ptr, pvc_idx = _vertex_cells(plain, n)
+    dep_ptr, dep_idx = _dependants(data.unique, plain, x, n + np.flatnonzero(np.isnan(added)))
+    status = np.zeros(n, dtype=np.int8)
+    fixed = _fixed(data.unique, breaklines)
+    p2_grad = grad if order == 2 else None
+    leave_one_out2d(
+        x,
+        v,
+        cells,
+        kept,
+        vc_ptr,
+        vc_idx,
+        ptr,
+        idx,
+        limit,
+        cptr,
+        cidx,
+        fixed,
+        plain,
+        pvc_ptr,
+        pvc_idx,
+        dep_ptr,
+        dep_idx,
+        tri,
+        bary,
+        nodal,
+        status,
+        p2_grad,
+    )
+    skipped = int((status == ON_LINE).sum())
+    if skipped:
+        warnings.warn(
+            f"{skipped} point(s) at a bend, an end or a crossing of a breakline or of the "
+            f"boundary get no residual (NaN): leaving one out changes the lines themselves",
+            stacklevel=3,
+        )
+    return x, tri, bary, nodal, grad, _used(cells, kept, len(x))[:n]
+
+
+def _short(x: np.ndarray, cells: np.ndarray, limit: float) -> np.ndarray:
+    """The ``max_edge`` mask of the fit (every cell when there is no limit)."""
+    if limit == np.inf:
+        return np.ones(len(cells), dtype=bool)
+    kept = short_cells(x, cells, limit)
+    if not kept.any():
+        raise InterpError(f"max_edge={limit:g} removes every cell; use a larger max_edge")
+    return kept
+
+
+def _rings(mesh: Mesh, kept: np.ndarray, order: int) -> tuple[np.ndarray, np.ndarray]:
+    """The neighbour lists of the fit's kept cells (P2), or empty ones (P1)."""
+    if order == 1:
+        return np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    return neighbours(Mesh(mesh.points, mesh.cells[kept]))
+
+
+def _outputs(n: int, d: int, c: int, order: int) -> tuple[np.ndarray, ...]:
+    """Empty ``tri``, ``bary`` and ``grad`` (no rows for P1) for the kernels."""
+    tri = np.full((n, d + 1), -1, dtype=np.int64)
+    bary = np.full((n, d + 1), np.nan)
+    grad = np.full((n if order == 2 else 0, d + 1, d, c), np.nan)
+    return tri, bary, grad
+
+
+def _used(cells: np.ndarray, kept: np.ndarray, n: int) -> np.ndarray:
+    return np.bincount(cells[kept].ravel(), minlength=n) > 0
+
+
+def _dependants(
+    points: np.ndarray, plain: np.ndarray, x: np.ndarray, nodes: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """For each data point, the ``nodes`` (rows of ``x``) valued from the data's
+    own surface through it: those in a cell of the plain Delaunay triangulation
+    ``plain`` of the ``points`` that has it as a corner; compressed sparse rows."""
+    n = len(points)
+    cell = Mesh(points, plain).locate(x[nodes]).cells
+    found = cell >= 0
+    corner = plain[cell[found]].ravel()
+    node = np.repeat(nodes[found], 3)
+    order = np.argsort(corner, kind="stable")
+    ptr = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.bincount(corner, minlength=n), out=ptr[1:])
+    return ptr, node[order]
+
+
+def _fixed(points: np.ndarray, breaklines: object) -> np.ndarray:
+    """Data points at a line's end or at a line vertex with its own value:
+    leaving them out changes the lines."""
+    out = np.zeros(len(points), dtype=bool)
+    if breaklines is None:
+        return out
+    ends = [
+        ln[np.r_[0, len(ln) - 1, np.flatnonzero(np.isfinite(ln[:, 2]))], :2]
+        for ln in as_lines(breaklines)
+    ]
+    keys = {tuple(p) for p in np.vstack(ends).tolist()}
+    near = np.flatnonzero(np.isin(points[:, 0], [k[0] for k in keys]))
+    out[near] = [tuple(p) in keys for p in points[near].tolist()]
+    return out
+
+
 def _vertex_cells(cells: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
     """Cells around each vertex, as compressed sparse rows."""
     flat = cells.ravel()
@@ -262,13 +375,14 @@ def _vertex_cells(cells: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _predict(
-    x: np.ndarray, v: np.ndarray, tri: np.ndarray, bary: np.ndarray, grad: np.ndarray
+    x: np.ndarray, tri: np.ndarray, bary: np.ndarray, nodal: np.ndarray, grad: np.ndarray
 ) -> np.ndarray:
-    """Values (n, c) at the removed points from their new cells (NaN where none)."""
-    out = np.full((len(tri), v.shape[1]), np.nan)
+    """Values (n, c) at the removed points from their new cells (NaN where none),
+    given the values (n, d + 1, c) at the cells' corners."""
+    out = np.full((len(tri), nodal.shape[2]), np.nan)
     inside = tri[:, 0] >= 0
     t, lam = tri[inside], bary[inside]
-    nodal = v[t]
+    nodal = nodal[inside]
     order = 1
     if grad.shape[0]:
         order = 2

@@ -456,3 +456,9 @@ def _grow(rows):  # pragma: no cover
     out = np.empty((2 * rows.shape[0], rows.shape[1]), dtype=rows.dtype)
     out[: rows.shape[0]] = rows
     return out
+
+
+#: the longest edge of a simplex of link vertices, for :mod:`interp._kernels.validate2d`.
+longest = _longest
+#: the neighbour lists of a re-filled star, for :mod:`interp._kernels.validate2d`.
+new_rings = _new_rings
