@@ -160,7 +160,7 @@ def mesh_and_added(
     if breaklines is not None or boundary is not None:
         uniq, inverse = _distinct(pts)
         lines = as_lines(breaklines) if breaklines is not None else []
-        rings = _rings(boundary)
+        rings = boundary_rings(boundary)
         uniq, cells, added, edges = insert(uniq, lines, rings)
         outside = None if rings is None else ~contains(rings, uniq)
         centre = box_frame(pts.min(axis=0), pts.max(axis=0))[0]
@@ -192,7 +192,7 @@ def mesh_and_added(
     return mesh, added, edges
 
 
-def _rings(boundary: object) -> list[np.ndarray] | None:
+def boundary_rings(boundary: object) -> list[np.ndarray] | None:
     """The rings of a boundary: a :class:`interp.Polygon` (holes too) or one ring."""
     if boundary is None:
         return None
@@ -219,7 +219,7 @@ def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> 
     d = points.shape[1]
     if d != 2:
         raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-    return contains(_rings(boundary), points[cells].mean(axis=1))
+    return contains(boundary_rings(boundary), points[cells].mean(axis=1))
 
 
 def _drop_flat(

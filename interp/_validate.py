@@ -20,16 +20,38 @@ determinants of all d-subsets, so only candidates holding p pay for the
 circumsphere test.  The search is the slow part in 3D (C(15, 4) = 1365
 candidates), not in 1D or 2D.
 
+With breaklines or a boundary (2D) the triangulation is constrained, and
+that test is the wrong one: a triangle of the constrained triangulation may
+hold a link vertex in its circumcircle that a constraint hides from it, and a
+triangle of link vertices holding p may stick out of a star that is not
+convex.  Removing a vertex that is on no constraint still changes only its
+star, and the new cells are the constrained Delaunay triangulation of the
+star polygon (the link ring, a simple polygon star-shaped from p).  The
+kernel of :mod:`interp._kernels.validate2d` triangulates that polygon as a
+polygon: ears clipped, then Lawson flips of its inner edges until each is
+locally Delaunay, with the exact predicates of the triangulator, so it
+agrees with a refit at any coordinate offset.  A point inside a straight
+constraint (on two collinear constraint edges) leaves the constraint in
+place: its star is cut in two along the segment between its two constraint
+neighbours, and each half is triangulated so.  Nodes that ``fit`` values
+from the plain Delaunay surface of the data (boundary vertices, vertices of
+lines without values) are valued again from the others where the removed
+point is a corner of the plain cell holding them (its plain star re-filled
+the same way), so their values are those of the refit.
+
 For ``order=2`` the prediction also needs the recovered gradients at the
 corners of that cell, and those change when p is removed: their neighbour
 lists lose p and gain the new edges of the re-filled star.  The kernel
 grows the new cells of the star from the cell holding p, crossing each
 inner face by gift-wrapping (the Delaunay neighbour across a face is the
 vertex beyond it whose sphere through the face is met first) and stopping
-at the faces of the old star's boundary.  It then rebuilds the neighbour
-lists of the link vertices under the ``max_edge`` mask, and repeats the
-local least-squares fits of :mod:`interp.fit` at the corners, so the result
-is the leave-one-out of the P2 fit itself, not an approximation of it.
+at the faces of the old star's boundary (with constraints: the polygon's
+triangles).  It then rebuilds the neighbour lists of the link vertices
+under the ``max_edge`` mask, and repeats the local least-squares fits of
+:mod:`interp.fit` at the corners, so the result is the leave-one-out of the
+P2 fit itself, not an approximation of it.  The fit's gradient recovery
+uses the mesh's edges, including those along a breakline, whose end nodes
+see across it; the leave-one-out does the same.
 
 Where points are not in general position (four or more points on one
 circle, as on a regular grid) the re-triangulation of a star is not unique,
@@ -49,9 +71,10 @@ from interp._arrays import as_points, positive
 from interp._breaklines import as_lines
 from interp._fit import Samples, adjacency, midpoint, neighbours, node_values, samples
 from interp._geometry import short_cells
+from interp._kernels.predicates import orient2d
 from interp._kernels.validate import leave_one_out
-from interp._kernels.validate2d import ON_LINE, leave_one_out2d
-from interp._triangulate import mesh_and_added, triangulate
+from interp._kernels.validate2d import NO_FAN, ON_LINE, leave_one_out2d
+from interp._triangulate import boundary_rings, mesh_and_added, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
 from interp.io import write_table
@@ -83,16 +106,41 @@ def crossvalidate(
         The ``max_edge`` mask of the fit: a prediction that falls in a cell
         with a longer edge is NaN.
     boundary : Polygon or array_like (p, 2), optional
-        2D only: a polygon (an :class:`interp.Polygon`, holes included, or
-        one ring): a prediction that falls in a cell of the others' Delaunay
-        triangulation whose centroid lies outside it is NaN.  ``fit(...,
-        boundary=)`` inserts the boundary's edges and vertices instead, so in
-        the cells the boundary crosses (or whose circumcircle holds one of
-        its vertices) a residual differs from that of a refit; elsewhere it
-        is the same.  For ``order=2`` the gradients around a removed point
-        are recovered from its re-triangulated neighbourhood whether or not
-        those new cells are inside the boundary.  Breaklines are not taken
-        into account.
+        2D only: the ``boundary`` of :func:`interp.fit` (an
+        :class:`interp.Polygon`, holes included, or one ring): its edges are
+        constraints of the triangulation and the cells outside it are dropped,
+        so a point outside it has no residual.
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: the ``breaklines`` of :func:`interp.fit`, as x, y[, value]
+        polylines.  Their vertices are not rows of ``points`` and get no
+        residual themselves; they stay in every refit, with their values.
+
+    With ``breaklines`` or ``boundary`` the fit validated is the one
+    :func:`interp.fit` builds with them (a constrained Delaunay triangulation,
+    breakline and boundary nodes valued as there), and each residual equals
+    that of ``fit(others, breaklines=lines, boundary=polygon)`` evaluated at
+    the point, P1 or P2.  For a point that lies on a breakline or on the
+    boundary, "leaving it out" also takes its vertex out of the line or ring
+    that has one there (the line then runs straight from the previous to the
+    next vertex), and then:
+
+    * where the line runs straight through the point (it lies inside a
+      segment, or at a vertex exactly in line with its neighbours on the mesh,
+      that has no value of its own), the line is unchanged and the residual
+      is that of the refit;
+    * at a bend, an end or a crossing of lines, next to a crossing point that
+      rounding moved off the line, or at a line vertex with a value of its
+      own, taking the vertex out changes the lines themselves (new crossings,
+      new line values, a boundary with a corner cut off) and with it the
+      triangulation beyond the point's neighbourhood.  Those points get NaN
+      and one warning gives their count; refit them one by one with
+      :func:`interp.fit` if they are needed.
+
+    A point on the convex hull of the data (a vertex of it or on one of its
+    edges) gets NaN with breaklines or a boundary.  So does a point beside a
+    cell that the triangulation dropped as too thin to use (a point within
+    rounding distance of a line, not on it), with a warning giving their
+    count.
 
     Returns
     -------
@@ -109,7 +157,7 @@ def crossvalidate(
     -----
     The whole set is triangulated once and each point's neighbourhood is
     re-triangulated locally (see the module notes); the residuals equal
-    those of fitting the n - 1 other points, n times over.  Residuals
+    those of fitting the n - 1 other points, n times over (to rounding).  Residuals
     measure how well the data predict themselves at the data spacing; they
     are not a guarantee of accuracy between the points, and a surface used
     for design or payment still needs the independent checks required by
@@ -122,6 +170,16 @@ def crossvalidate(
     >>> r = crossvalidate(pts, [0.0, 0.0, 0.0, 0.0, 1.0])
     >>> r.tolist()  # the hull corners have no prediction; the centre is predicted 0
     [nan, nan, nan, nan, 1.0]
+
+    A crease along y = 1, followed by a breakline there (a linear fit on each
+    side predicts the data exactly; without the line it cuts across):
+
+    >>> pts = np.array([[0.0, 0], [2, 0], [0, 2], [2, 2], [1, 0.5], [1, 1.5]])
+    >>> z = np.abs(pts[:, 1] - 1)
+    >>> crossvalidate(pts, z)[4:].round(6).tolist()
+    [-0.333333, -0.333333]
+    >>> (crossvalidate(pts, z, breaklines=[[[0, 1, 0.0], [2, 1, 0.0]]])[4:].round(12) + 0).tolist()
+    [0.0, 0.0]
     """
     data = samples(points, values, order)
     limit = np.inf if max_edge is None else positive(max_edge, "max_edge")
@@ -267,7 +325,7 @@ def _constrained(
     pvc_ptr, pvc_idx = _vertex_cells(plain, n)
     dep_ptr, dep_idx = _dependants(data.unique, plain, x, n + np.flatnonzero(np.isnan(added)))
     status = np.zeros(n, dtype=np.int8)
-    fixed = _fixed(data.unique, breaklines)
+    fixed = _fixed(data.unique, breaklines, boundary)
     p2_grad = grad if order == 2 else None
     leave_one_out2d(
         x,
@@ -293,11 +351,17 @@ def _constrained(
         status,
         p2_grad,
     )
-    skipped = int((status == ON_LINE).sum())
+    skipped, thin = int((status == ON_LINE).sum()), int((status == NO_FAN).sum())
     if skipped:
         warnings.warn(
             f"{skipped} point(s) at a bend, an end or a crossing of a breakline or of the "
             f"boundary get no residual (NaN): leaving one out changes the lines themselves",
+            stacklevel=3,
+        )
+    if thin:
+        warnings.warn(
+            f"{thin} point(s) beside a cell too thin to use (within rounding of a line) get "
+            f"no residual (NaN): their neighbourhood is not one fan of cells",
             stacklevel=3,
         )
     return x, tri, bary, nodal, grad, _used(cells, kept, len(x))[:n]
@@ -349,17 +413,27 @@ def _dependants(
     return ptr, node[order]
 
 
-def _fixed(points: np.ndarray, breaklines: object) -> np.ndarray:
-    """Data points at a line's end or at a line vertex with its own value:
-    leaving them out changes the lines."""
-    out = np.zeros(len(points), dtype=bool)
-    if breaklines is None:
-        return out
-    ends = [
-        ln[np.r_[0, len(ln) - 1, np.flatnonzero(np.isfinite(ln[:, 2]))], :2]
-        for ln in as_lines(breaklines)
+def _fixed(points: np.ndarray, breaklines: object, boundary: object) -> np.ndarray:
+    """Data points whose leaving out changes the lines: at a line's end, at a
+    line vertex with a value of its own, or at a vertex where a line or a
+    boundary ring bends (exact)."""
+    chains = [(ln, False) for ln in as_lines(breaklines)] if breaklines is not None else []
+    chains += [
+        (np.column_stack([r, r[:, 0] * np.nan]), True) for r in boundary_rings(boundary) or []
     ]
-    keys = {tuple(p) for p in np.vstack(ends).tolist()}
+    marked = []
+    for ln, closed in chains:
+        prev, nxt = np.roll(ln[:, :2], 1, axis=0), np.roll(ln[:, :2], -1, axis=0)
+        turn = np.array(
+            [orient2d(*a, *b, *c) for a, b, c in zip(prev, ln[:, :2], nxt, strict=True)]
+        )
+        ahead = np.einsum("ij,ij->i", prev - ln[:, :2], nxt - ln[:, :2]) >= 0
+        flag = (turn != 0) | ahead | np.isfinite(ln[:, 2])
+        if not closed:
+            flag[[0, -1]] = True
+        marked += ln[flag, :2].tolist()
+    keys = {tuple(p) for p in marked}
+    out = np.zeros(len(points), dtype=bool)
     near = np.flatnonzero(np.isin(points[:, 0], [k[0] for k in keys]))
     out[near] = [tuple(p) in keys for p in points[near].tolist()]
     return out

@@ -11,6 +11,7 @@ from interp._kernels.validate import longest, new_rings
 
 OK = 0  # status of each point: predicted (or outside the others' mesh, or masked)
 ON_LINE = 1  # at a bend, an end or a crossing of the constraints: not computed
+NO_FAN = 2  # inside the data, but its cells are not one fan (a thin cell was dropped)
 
 
 @numba.njit(cache=True, nogil=True)
@@ -43,9 +44,9 @@ def leave_one_out2d(
 
     The star of p is re-filled by the constrained Delaunay triangulation of its
     link polygon (split at p's two constraint neighbours when p lies on a
-    straight constraint).  ``cptr, cidx``: the constraint neighbours of each
+    line that runs straight through it).  ``cptr, cidx``: the constraint neighbours of each
     node; ``fixed``: data vertices whose removal changes the constraint input
-    (a line end or a line vertex with its own value).  ``plain`` is the plain
+    (a line end, a line vertex with its own value, a bend).  ``plain`` is the plain
     Delaunay triangulation of the data vertices (``pvc_*`` its vertex cells);
     the nodes ``dep_idx[dep_ptr[p]:dep_ptr[p + 1]]`` are valued from that
     surface through p, and are valued again from the others for p's
@@ -60,8 +61,8 @@ def leave_one_out2d(
     stamp = 0
     for p in range(n):
         ring, k, closed = _ring(cells, vc_idx[vc_ptr[p] : vc_ptr[p + 1]], p)
-        if k < 2:
-            continue
+        if k < 2 or not _ring(plain, pvc_idx[pvc_ptr[p] : pvc_ptr[p + 1]], p)[2]:
+            continue  # outside the mesh, or on the hull of the data
         cdeg = cptr[p + 1] - cptr[p]
         if fixed[p] or not (cdeg == 0 or cdeg == 2):
             status[p] = ON_LINE
@@ -69,18 +70,18 @@ def leave_one_out2d(
         split = np.full(2, -1, dtype=np.int64)
         if cdeg == 2:
             a, b = cidx[cptr[p]], cidx[cptr[p] + 1]
-            if not _straight(x, a, p, b):
-                status[p] = ON_LINE
-                continue
             for i in range(k):
                 if ring[i] == a or ring[i] == b:
                     split[0 if split[0] < 0 else 1] = i
             if split[1] < 0 or (not closed and (split[0] != 0 or split[1] != k - 1)):
+                status[p] = NO_FAN
                 continue
         elif not closed:
+            status[p] = NO_FAN
             continue
         new, n_new = _fill(x, ring, k, closed, split)
         if n_new < 0:
+            status[p] = ON_LINE
             continue
         deps = dep_idx[dep_ptr[p] : dep_ptr[p + 1]]
         saved = np.empty((deps.size, c))
@@ -88,6 +89,7 @@ def leave_one_out2d(
             saved[j] = v[deps[j]]
         if deps.size and not _revalue(x, v, plain, pvc_idx[pvc_ptr[p] : pvc_ptr[p + 1]], p, deps):
             _restore(v, deps, saved)
+            status[p] = NO_FAN
             continue
         cell = _holding(x, ring, new, n_new, p)
         if cell >= 0 and longest(x, ring, new[cell]) <= max_edge:
@@ -171,16 +173,6 @@ def _find(arr, value):  # pragma: no cover
         if arr[i] == value:
             return i
     return -1
-
-
-@numba.njit(cache=True, nogil=True)
-def _straight(x, a, p, b):  # pragma: no cover
-    """Whether p lies strictly between a and b on the line through them (exact)."""
-    if orient2d(x[a, 0], x[a, 1], x[p, 0], x[p, 1], x[b, 0], x[b, 1]) != 0.0:
-        return False
-    return (x[a, 0] - x[p, 0]) * (x[b, 0] - x[p, 0]) + (x[a, 1] - x[p, 1]) * (
-        x[b, 1] - x[p, 1]
-    ) < 0.0
 
 
 @numba.njit(cache=True, nogil=True)
@@ -349,8 +341,9 @@ def _barycentric(x, ring, corners, p, lam):  # pragma: no cover
 @numba.njit(cache=True, nogil=True)
 def _revalue(x, v, plain, star, p, deps):  # pragma: no cover
     """Set the values of the nodes ``deps`` from the plain Delaunay surface of
-    the data without p: its star re-filled, each node located in it.  False
-    when p's star is not closed or a node is not found."""
+    the data without p: its star re-filled, each node located in it (in the
+    triangle it is least outside of, when rounding put it outside them all).
+    False when p's star is not closed."""
     ring, k, closed = _ring(plain, star, p)
     if k < 3 or not closed:
         return False
@@ -361,8 +354,12 @@ def _revalue(x, v, plain, star, p, deps):  # pragma: no cover
     lam = np.empty(3)
     for q in deps:
         cell = _holding(x, ring, new, n_new, q)
-        if cell < 0:
-            return False
+        if cell < 0:  # rounded just outside (a point where the boundary meets the hull)
+            deepest = -np.inf
+            for s in range(n_new):
+                _barycentric(x, ring, new[s], q, lam)
+                if lam.min() > deepest:
+                    cell, deepest = s, lam.min()
         _barycentric(x, ring, new[cell], q, lam)
         for e in range(v.shape[1]):
             v[q, e] = 0.0
