@@ -5,9 +5,8 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-from interp._kernels.fit import node_gradient
 from interp._kernels.predicates import incircle, orient2d
-from interp._kernels.validate import longest, new_rings
+from interp._kernels.validate import longest, star_gradients
 
 OK = 0  # status of each point: predicted (or outside the others' mesh, or masked)
 ON_LINE = 1  # at a bend, an end or a crossing of the constraints: not computed
@@ -98,25 +97,27 @@ def leave_one_out2d(
                 tri[p, i] = ring[new[cell, i]]
                 nodal[p, i] = v[tri[p, i]]
             if grad is not None:
-                over_ptr, over_idx, stamp = new_rings(
-                    x, cells, kept, vc_ptr, vc_idx, p, ring, k, new, n_new, max_edge, mark, stamp
+                stamp = star_gradients(
+                    x,
+                    v,
+                    cells,
+                    kept,
+                    vc_ptr,
+                    vc_idx,
+                    ptr,
+                    idx,
+                    max_edge,
+                    p,
+                    ring,
+                    k,
+                    new,
+                    n_new,
+                    tri[p],
+                    mark,
+                    stamp,
+                    members,
+                    grad[p],
                 )
-                for i in range(3):
-                    stamp += 1
-                    node_gradient(
-                        tri[p, i],
-                        x,
-                        v,
-                        ptr,
-                        idx,
-                        ring[:k],
-                        over_ptr,
-                        over_idx,
-                        mark,
-                        stamp,
-                        members,
-                        grad[p, i],
-                    )
         _restore(v, deps, saved)
 
 
