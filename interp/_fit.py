@@ -255,7 +255,18 @@ def fit(
 def node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
     """Values at every mesh node: the data, then the nodes that breaklines added
     (their values along the line; from the data's own surface where the line has
-    none)."""
+    none).
+
+    Examples
+    --------
+    >>> data = samples([[0.0, 0], [2, 0], [0, 2], [2, 2]], [0.0, 2.0, 0.0, 2.0], 1)
+    >>> mesh, added, _ = mesh_and_added(data.unique, None, None, [[[1.0, 0, 5], [1, 2, np.nan]]])
+    >>> node_values(data, mesh, added)[4:, 0].tolist()  # a value given, one held from it
+    [5.0, 5.0]
+    >>> mesh, added, _ = mesh_and_added(data.unique, None, None, [[[1.0, 0], [1, 2]]])
+    >>> node_values(data, mesh, added)[4:, 0].tolist()  # no values: the data's own surface
+    [1.0, 1.0]
+    """
     if not added.size:
         return data.mean
     c = data.mean.shape[1]
