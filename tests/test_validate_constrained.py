@@ -154,17 +154,32 @@ def test_a_crease_on_a_breakline_is_predicted_exactly(rng):
     seed=st.integers(0, 2**32 - 1),
     order=st.sampled_from([1, 2]),
     n_lines=st.integers(1, 3),
+    with_boundary=st.booleans(),
+    offset=st.sampled_from([0.0, 1.0]),
 )
-def test_property_equals_brute_force(seed, order, n_lines):
+def test_property_equals_brute_force(seed, order, n_lines, with_boundary, offset):
     rng = np.random.default_rng(seed)
-    pts = np.vstack([[[0, 0], [1, 0], [1, 1], [0, 1]], rng.random((36, 2))])
+    shift = offset * OFFSET
+    pts = np.vstack([[[0, 0], [1, 0], [1, 1], [0, 1]], rng.random((36, 2))]) + shift
     vals = rng.normal(size=len(pts))
-    lines = [0.1 + 0.8 * rng.random((int(rng.integers(2, 4)), 2)) for _ in range(n_lines)]
+    lines = [shift + 0.1 + 0.8 * rng.random((int(rng.integers(2, 5)), 2)) for _ in range(n_lines)]
+    rings = None
+    if with_boundary:  # a quadrilateral with a square hole
+        outer = [[0.05, 0.05], [0.95, 0.1], [0.9, 0.95], [0.1, 0.9]]
+        rings = [
+            shift + np.array(outer),
+            shift + 0.4 + 0.2 * np.array([[0, 0], [1, 0], [1, 1], [0, 1]]),
+        ]
+    boundary = None if rings is None else Polygon(rings[0], rings[1:])
     try:
-        got = crossvalidate(pts, vals, order=order, breaklines=lines)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            got = crossvalidate(pts, vals, order=order, breaklines=lines, boundary=boundary)
     except InterpError:  # two random lines overlapping: refused, as by fit
+        with pytest.raises(InterpError):
+            fit(pts, vals, breaklines=lines, boundary=boundary)
         return
-    assert_same(got, brute(pts, vals, order, lines), np.abs(vals).max())
+    assert_same(got, brute(pts, vals, order, lines, rings), np.abs(vals).max())
 
 
 def test_constraints_are_two_dimensional():
