@@ -69,8 +69,8 @@ def check_finite(points: np.ndarray, name: str = "points") -> None:
     if bad.any():
         idx = np.flatnonzero(bad)
         raise InterpError(
-            f"{name}: {idx.size} point(s) have NaN or infinite coordinates, the first at "
-            f"index {idx[0]}; remove or fill them before building a mesh"
+            f"{name}: {idx.size} point(s) have NaN or infinite coordinates, the first is point "
+            f"{idx[0] + 1} (counting from 1); remove or fill them before building a mesh"
         )
 
 

@@ -39,7 +39,7 @@ def as_lines(lines: object, name: str = "breaklines") -> list[np.ndarray]:
         lines = [lines]
     out = []
     for i, line in enumerate(lines):
-        what = f"{name}: line {i}"
+        what = f"{name}: line {i + 1}"
         arr = as_floats(line, f"{what} must be a (k, 2) or (k, 3) array of numbers")
         if arr.ndim != 2 or arr.shape[1] not in (2, 3) or len(arr) < 2:
             raise InterpError(
@@ -50,8 +50,8 @@ def as_lines(lines: object, name: str = "breaklines") -> list[np.ndarray]:
         zero = np.flatnonzero((arr[1:, :2] == arr[:-1, :2]).all(axis=1))
         if zero.size:
             raise InterpError(
-                f"{what}, segment {zero[0]}: vertices {zero[0]} and {zero[0] + 1} are the same "
-                f"point; remove the repeated vertex"
+                f"{what}, segment {zero[0] + 1}: vertices {zero[0] + 1} and {zero[0] + 2} are the "
+                "same point (counting from 1); remove the repeated vertex"
             )
         if arr.shape[1] == 2:
             arr = np.column_stack([arr, np.full(len(arr), np.nan)])
@@ -202,8 +202,8 @@ def insert(
     if out >= 0:
         i, j = which[min(np.searchsorted(seg[:, 0], out), len(seg) - 1)]
         raise InterpError(
-            f"breakline {i}, segment {j}: vertex {verts[out, :2].tolist()} lies outside the "
-            f"convex hull of the data points, where there is no surface; end the line inside "
+            f"breakline {i + 1}, segment {j + 1}: vertex {verts[out, :2].tolist()} lies outside "
+            f"the convex hull of the data points, where there is no surface; end the line inside "
             f"the data or add points around it"
         )
     n = len(points)
@@ -218,7 +218,7 @@ def insert(
             added.append(v)
         node[v] = rows[key]
     nodes = np.vstack([points, verts[added, :2]])
-    names = [f"breakline {i}, segment {j}" for i, j in which.tolist()]
+    names = [f"breakline {i + 1}, segment {j + 1}" for i, j in which.tolist()]
     r = constrained2d(nodes, node[seg], boundary_rings=rings, names=names)
     values = np.full(len(r.points) - n, np.nan)
     values[: len(added)] = verts[added, 2]

@@ -9,8 +9,6 @@ from __future__ import annotations
 import argparse
 import json
 import re
-import sys
-import time
 from collections.abc import Sequence
 from pathlib import Path
 from typing import NoReturn
@@ -19,6 +17,7 @@ import numpy as np
 
 import interp
 from interp._format import decimals
+from interp._progress import enabled, write
 from interp.io import is_las_file
 from interp.source import load
 
@@ -43,32 +42,11 @@ class Parser(argparse.ArgumentParser):
         )
 
 
-class Progress:
-    """A progress line on stderr, shown only on a terminal and not with --quiet."""
-
-    def __init__(self, label: str, quiet: bool, total: int | None = None) -> None:
-        self.label, self.total = label, total
-        self.enabled = not quiet and sys.stderr.isatty()
-        self.start = time.perf_counter()
-
-    def __call__(self, done: int) -> None:
-        if not self.enabled:
-            return
-        rate = done / max(time.perf_counter() - self.start, 1e-9)
-        share = f" ({100 * done / self.total:5.1f}%)" if self.total else ""
-        sys.stderr.write(f"\r{self.label}: {done:,}{share}, {rate:,.0f}/s")
-        sys.stderr.flush()
-
-    def close(self) -> None:
-        if self.enabled:
-            sys.stderr.write("\n")
-
-
-def stage(args: argparse.Namespace, text: str) -> None:
-    """Say on stderr what a long step is doing (a terminal only, not with --quiet)."""
-    if not args.quiet and sys.stderr.isatty():
-        sys.stderr.write(f"interp: {text}...\n")
-        sys.stderr.flush()
+def stage(text: str) -> None:
+    """Say on stderr what a step is doing, while the progress bars are on (a terminal,
+    not --quiet)."""
+    if enabled():
+        write(f"interp: {text}...")
 
 
 def numbers(text: str) -> list[float]:
@@ -180,15 +158,15 @@ def source_options(p: argparse.ArgumentParser) -> None:
 
 
 def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str, interp.Field]:
-    stage(args, f"reading {path or args.source}")
+    stage(f"reading {path or args.source}")
     return load(
         path or args.source,
         coords=args.coords,
         order=args.order,
         max_edge=args.max_edge,
         boundary=region_of(args.boundary),
-        breaklines=interp.read_lines(args.breaklines) if args.breaklines else None,
-        field=args.field,
+        breaklines=lines_of(args.breaklines),
+        name=args.field,
         **las_options(args, path or args.source),
         units=args.units,
     )
@@ -216,6 +194,10 @@ def region_of(path: Path | None) -> interp.Polygon | None:
         return interp.Polygon(rings[0], holes=rings[1:])
     except interp.InterpError as exc:
         raise interp.InterpError(f"{path}: {exc}") from None
+
+
+def lines_of(path: Path | None) -> list[np.ndarray] | None:
+    return None if path is None else interp.read_lines(path)
 
 
 def emit(args: argparse.Namespace, result: dict, text: Sequence[str]) -> None:

@@ -17,6 +17,7 @@ import warnings
 from pathlib import Path
 from typing import NoReturn
 
+from interp._progress import write
 from interp.errors import InterpError
 
 #: the optional extra that brings each lazily imported package.
@@ -71,8 +72,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _note(message, category, filename, lineno, file=None, line=None) -> None:
-    """Show a warning from the library as one line on stderr."""
-    print(f"interp: note: {' '.join(str(message).split())}", file=sys.stderr)
+    """Show a warning from the library as one line on stderr (above a progress bar)."""
+    write(f"interp: note: {' '.join(str(message).split())}")
 
 
 def _check_output(args: argparse.Namespace) -> None:

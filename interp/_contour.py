@@ -39,7 +39,8 @@ from pathlib import Path
 import numpy as np
 
 from interp._arrays import as_floats
-from interp._contour_clip import clip_lines, cross_z
+from interp._contour_clip import clip_lines
+from interp._geometry import cross_z
 from interp.basis import lattice, shape
 from interp.clip import check_region
 from interp.errors import InterpError

@@ -92,21 +92,45 @@ def _at(a: np.ndarray, b: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 def _cuts(a: np.ndarray, b: np.ndarray, region: Region, mesh: object) -> tuple[np.ndarray, ...]:
     """Where segments a -> b cross the boundary of a region: segment indices and t in (0, 1)."""
-    if isinstance(region, Intersection):
-        parts = [_cuts(a, b, r, mesh) for r in region.regions]
-        return tuple(np.concatenate(c) for c in zip(*parts, strict=True))
-    if isinstance(region, Box):
-        return _cuts(a, b, Intersection(*region.half_spaces()), mesh)
-    if isinstance(region, HalfSpace):
-        return _sign_change(a @ region.normal - region.offset, b @ region.normal - region.offset)
-    if isinstance(region, LevelSet):
-        if not same_cells(region.field.mesh, mesh):
-            raise InterpError(
-                "the LevelSet's field is on another mesh than the contoured field; build the "
-                "LevelSet from a field on this mesh"
-            )
-        return _sign_change(region.excess(region.field(a)), region.excess(region.field(b)))
-    return _polygon_cuts(a, b, region)
+    kind = next(k for k in type(region).__mro__ if k in _LINE_CUTS)
+    return _LINE_CUTS[kind](a, b, region, mesh)
+
+
+def _intersection_cuts(a, b, region: Intersection, mesh) -> tuple[np.ndarray, ...]:
+    parts = [_cuts(a, b, r, mesh) for r in region.regions]
+    return tuple(np.concatenate(c) for c in zip(*parts, strict=True))
+
+
+def _box_cuts(a, b, region: Box, mesh) -> tuple[np.ndarray, ...]:
+    return _intersection_cuts(a, b, Intersection(*region.half_spaces()), mesh)
+
+
+def _half_space_cuts(a, b, region: HalfSpace, mesh) -> tuple[np.ndarray, ...]:
+    return _sign_change(a @ region.normal - region.offset, b @ region.normal - region.offset)
+
+
+def _level_set_cuts(a, b, region: LevelSet, mesh) -> tuple[np.ndarray, ...]:
+    if not same_cells(region.field.mesh, mesh):
+        raise InterpError(
+            "the LevelSet's field is on another mesh than the contoured field; build the "
+            "LevelSet from a field on this mesh"
+        )
+    return _sign_change(region.excess(region.field(a)), region.excess(region.field(b)))
+
+
+def _polygon_cuts(a, b, region: Polygon, mesh) -> tuple[np.ndarray, ...]:
+    return region.edge_grid.crossings(a, b)
+
+
+#: where lines cross each kind of region's boundary: a new kind of region is one entry here
+#: (as in :mod:`interp.clip`).
+_LINE_CUTS = {
+    Polygon: _polygon_cuts,
+    Box: _box_cuts,
+    HalfSpace: _half_space_cuts,
+    LevelSet: _level_set_cuts,
+    Intersection: _intersection_cuts,
+}
 
 
 def _sign_change(da: np.ndarray, db: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -114,48 +138,3 @@ def _sign_change(da: np.ndarray, db: np.ndarray) -> tuple[np.ndarray, np.ndarray
     with np.errstate(invalid="ignore"):
         hit = np.flatnonzero(((da < 0) & (db > 0)) | ((da > 0) & (db < 0)))
     return hit, da[hit] / (da[hit] - db[hit])
-
-
-def _polygon_cuts(a: np.ndarray, b: np.ndarray, polygon: Polygon) -> tuple[np.ndarray, ...]:
-    """Crossings of segments with a polygon's edges, found through its edge grid's buckets."""
-    grid = polygon._grid
-    nx, ny = int(grid.shape[0]), int(grid.shape[1])
-    lo_xy = (np.minimum(a, b) - grid.lo) / grid.h
-    hi_xy = (np.maximum(a, b) - grid.lo) / grid.h
-    near = np.flatnonzero((hi_xy >= 0).all(axis=1) & (lo_xy[:, 0] <= nx) & (lo_xy[:, 1] <= ny))
-    i0 = np.clip(np.floor(lo_xy[near, 0]), 0, nx - 1).astype(np.int64)
-    i1 = np.clip(np.floor(hi_xy[near, 0]), 0, nx - 1).astype(np.int64)
-    j0 = np.clip(np.floor(lo_xy[near, 1]), 0, ny - 1).astype(np.int64)
-    j1 = np.clip(np.floor(hi_xy[near, 1]), 0, ny - 1).astype(np.int64)
-    wide = i1 - i0 + 1
-    n_buckets = wide * (j1 - j0 + 1)
-    owner = np.repeat(np.arange(len(near)), n_buckets)
-    k = np.arange(len(owner)) - np.repeat(np.cumsum(n_buckets) - n_buckets, n_buckets)
-    bucket = (j0[owner] + k // wide[owner]) * nx + i0[owner] + k % wide[owner]
-    n_members = grid.start[bucket + 1] - grid.start[bucket]
-    pair_seg = np.repeat(near[owner], n_members)
-    k = np.arange(len(pair_seg)) - np.repeat(np.cumsum(n_members) - n_members, n_members)
-    pair_edge = grid.members[np.repeat(grid.start[bucket], n_members) + k]
-    n_edges = len(grid.segments)
-    key = np.unique(pair_seg * n_edges + pair_edge)
-    s, e = np.divmod(key, n_edges)
-    p, r = a[s], b[s] - a[s]
-    q, d = grid.segments[e, :2], grid.segments[e, 2:] - grid.segments[e, :2]
-    w = q - p
-    denom = cross_z(r, d)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = cross_z(w, d) / denom
-        u = cross_z(w, r) / denom
-        hit = (denom != 0) & (t > 0) & (t < 1) & (u >= 0) & (u <= 1)
-    return s[hit], t[hit]
-
-
-def cross_z(u: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """z component of the cross product of rows of 2D vectors.
-
-    Examples
-    --------
-    >>> cross_z(np.array([[1.0, 0.0]]), np.array([[0.0, 2.0]])).tolist()
-    [2.0]
-    """
-    return u[:, 0] * w[:, 1] - u[:, 1] * w[:, 0]

@@ -22,10 +22,13 @@ import numpy as np
 from interp._arrays import as_points, check_finite
 from interp._kernels import constrain2d as kc
 from interp._kernels import delaunay2d as k
+from interp._progress import task
 from interp.errors import InterpError
-from interp.polygon import as_ring, contains, first_crossing
+from interp.polygon import as_ring, contains, crossing_text, ring_names
 
 SEED = 20261203  # fixed: the insertion order, hence the triangulation, is reproducible
+#: points inserted per call of the insertion kernel (about 0.1 s each).
+SLICE = 1 << 17
 
 
 def delaunay2d(points: object, *, repeats: bool = False) -> np.ndarray:
@@ -143,26 +146,24 @@ def constrained2d(
     n = len(pts)
     seg = _segments(segments, n)
     rings = [as_ring(r, "boundary") for r in boundary_rings or []]
-    bad = first_crossing(rings) if rings else None
-    if bad is not None:
-        (ra, ea), (rb, eb) = bad
+    crossing = crossing_text(rings, ring_names(len(rings))) if rings else None
+    if crossing is not None:
         raise InterpError(
-            f"the boundary crosses itself: edge {ea} of ring {ra} and edge {eb} of ring "
-            f"{rb} cross, touch or overlap; give rings that are simple and disjoint"
+            f"the boundary crosses itself: {crossing}; give rings that are simple and disjoint"
         )
     bpts, bseg = _clip_rings(rings, pts)
     coords = np.vstack([pts, bpts])
     allseg = np.vstack([seg, bseg])
     source = np.concatenate([np.arange(len(seg)), np.full(len(bseg), -1)])
     kind = np.where(source >= 0, BREAKLINE, BOUNDARY).astype(np.int8)
-    called = names if names is not None else [f"input segment {i}" for i in range(len(seg))]
+    called = names if names is not None else [f"input segment {i + 1}" for i in range(len(seg))]
     cpts, corigin, pieces, pseg = _split(coords, allseg, source, kind, called)
     allpts = np.vstack([coords, cpts])
     origin = np.vstack([np.full((len(bpts), 2), -1, dtype=np.int64), corigin])
     order = insertion_order(allpts)
     x = allpts[order, 0]
     y = allpts[order, 1]
-    tri, nbr, ntri, same, status = k.delaunay(x, y)
+    tri, nbr, ntri, same, status = _insert_all(x, y)
     if status == k.COLLINEAR:
         _triangulate(pts)  # raises the message of the unconstrained case
     vertex, canon = _merged(order, same, n)
@@ -171,7 +172,8 @@ def constrained2d(
     cons, status, which = kc.constrain(x, y, tri, nbr, ntri, pk[use], kind[pseg[use]])
     if status != k.OK:
         i = int(np.flatnonzero(use)[which])
-        what = f"constraint piece {pieces[i].tolist()} ({_name(source, called, pseg[i])})"
+        ends = " to ".join(map(str, allpts[pieces[i]].tolist()))
+        what = f"the constraint piece {ends} ({_name(source, called, pseg[i])})"
         if status == k.CROSSING:
             raise InterpError(
                 f"{what} crosses another constraint where rounding moved their crossing "
@@ -206,8 +208,8 @@ def _segments(segments: object, n: int) -> np.ndarray:
     bad = np.flatnonzero((arr < 0).any(axis=1) | (arr >= n).any(axis=1) | (arr[:, 0] == arr[:, 1]))
     if bad.size:
         raise InterpError(
-            f"segment {bad[0]} is {arr[bad[0]].tolist()}: a segment joins two different "
-            f"rows of the {n} points"
+            f"segment {bad[0] + 1} joins rows {(arr[bad[0]] + 1).tolist()} (counting from 1): "
+            f"a segment joins two different rows of the {n} points"
         )
     return arr.astype(np.int64)
 
@@ -290,9 +292,9 @@ def _split(
     if len(both):
         i, j = both[0]
         raise InterpError(
-            f"breakline segments {seg[i].tolist()} and {seg[j].tolist()} "
-            f"({_name(source, label, i)} and {_name(source, label, j)}) overlap along a piece of "
-            f"line; join them into one line or remove the repeated piece"
+            f"{_name(source, label, i)} ({' to '.join(map(str, coords[seg[i]].tolist()))}) and "
+            f"{_name(source, label, j)} ({' to '.join(map(str, coords[seg[j]].tolist()))}) "
+            "overlap along a piece of line; join them into one line or remove the repeated piece"
         )
     c = len(cross)
     i, j = cross[:, 0], cross[:, 1]
@@ -347,7 +349,8 @@ def _merged(order: np.ndarray, same: np.ndarray, n: int) -> tuple[np.ndarray, np
         d = dup[np.argmax(inputs)]
         i, j = sorted((int(order[d]), int(order[same[d]])))
         raise InterpError(
-            f"point {j} equals point {i}; merge exact duplicates before triangulating"
+            f"point {j + 1} equals point {i + 1} (counting from 1); merge exact duplicates "
+            "before triangulating"
         )
     return vertex, canon
 
@@ -380,6 +383,26 @@ def insertion_order(pts: np.ndarray) -> np.ndarray:
     return np.argsort(keys)
 
 
+def _insert_all(
+    x: np.ndarray, y: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, int, np.ndarray, int]:
+    """Delaunay triangulation of points inserted in the given order, in slices of
+    :data:`SLICE` points (the steps of the progress bar; the result does not depend
+    on them).  Returns ``(tri, nbr, ntri, same, status)`` (see
+    :func:`interp._kernels.delaunay2d.insert`)."""
+    tri, nbr, mark, start_of, same, third = k.first_triangle(x, y)
+    if third < 0:
+        return tri, nbr, 0, same, k.COLLINEAR
+    ntri, last = 4, 0
+    with task("triangulating", total=len(x), unit="points") as advance:
+        advance(2)  # points 0 and 1, in the first triangle
+        for lo in range(2, len(x), SLICE):
+            hi = min(len(x), lo + SLICE)
+            ntri, last = k.insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi)
+            advance(hi - lo)
+    return tri, nbr, ntri, same, k.OK
+
+
 def _triangulate(
     pts: np.ndarray, repeats: bool = False
 ) -> tuple[np.ndarray, np.ndarray, int, np.ndarray]:
@@ -387,7 +410,7 @@ def _triangulate(
     order = insertion_order(pts)
     x = pts[order, 0]
     y = pts[order, 1]
-    tri, nbr, ntri, same, status = k.delaunay(x, y)
+    tri, nbr, ntri, same, status = _insert_all(x, y)
     if status == k.COLLINEAR:
         raise InterpError(
             "the points are collinear: a 2D triangulation needs points spread in 2 "
@@ -397,7 +420,7 @@ def _triangulate(
     if dup.size and not repeats:
         i, j = sorted((int(order[dup[0]]), int(order[same[dup[0]]])))
         raise InterpError(
-            f"{dup.size} point(s) repeat an earlier point, e.g. index {j} equals index {i}; "
-            f"merge exact duplicates before triangulating"
+            f"{dup.size} point(s) repeat an earlier point, e.g. point {j + 1} equals point "
+            f"{i + 1} (counting from 1); merge exact duplicates before triangulating"
         )
     return tri, nbr, ntri, order

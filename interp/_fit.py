@@ -45,10 +45,14 @@ import numpy as np
 
 from interp._arrays import as_floats, as_points, check_finite
 from interp._kernels.fit import recover as _recover
+from interp._progress import task
 from interp._triangulate import merge_duplicates, mesh_and_added, triangulate
 from interp.errors import InterpError
 from interp.field import Field
 from interp.mesh import Mesh
+
+#: nodes whose gradients are recovered per call of the kernel (a step of the progress bar).
+SLICE = 1 << 14
 
 
 @dataclass(frozen=True)
@@ -126,7 +130,7 @@ def samples(points: object, values: object, order: int) -> Samples:
     if np.isinf(vals).any():
         row = int(np.flatnonzero(np.isinf(vals).any(axis=1))[0])
         raise InterpError(
-            f"values are infinite at point index {row} (counted from 0); use NaN to mark "
+            f"values are infinite at point {row + 1} (counting from 1); use NaN to mark "
             "missing values (those points are dropped)"
         )
     valid = ~np.isnan(vals).any(axis=1)
@@ -343,9 +347,15 @@ def recover_gradients(
     >>> (recover_gradients(x, x**2, ptr, idx)[:, 0, 0].round(12) + 0.0).tolist()
     [0.0, 2.0, 6.0]
     """
+    n = len(points)
     grad = np.empty(points.shape + values.shape[1:])
-    no_override = np.empty(0, dtype=np.int64)
-    _recover(points, values, ptr, idx, no_override, np.zeros(1, dtype=np.int64), no_override, grad)
+    none, one = np.empty(0, dtype=np.int64), np.zeros(1, dtype=np.int64)  # no overrides
+    mark, members = np.full(n, -1, dtype=np.int64), np.empty(n, dtype=np.int64)
+    with task("recovering gradients (P2)", total=n, unit="nodes") as advance:
+        for lo in range(0, n, SLICE):
+            hi = min(n, lo + SLICE)
+            _recover(points, values, ptr, idx, none, one, none, grad, lo, hi, mark, members)
+            advance(hi - lo)
     return grad
 
 

@@ -112,6 +112,17 @@ def box_frame(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, float]:
     return 0.5 * (lo + hi), float(0.5 * (hi - lo).max()) or 1.0
 
 
+def cross_z(u: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """z component of the cross product of rows of 2D vectors.
+
+    Examples
+    --------
+    >>> cross_z(np.array([[1.0, 0.0]]), np.array([[0.0, 2.0]])).tolist()
+    [2.0]
+    """
+    return u[:, 0] * w[:, 1] - u[:, 1] * w[:, 0]
+
+
 def det(a: np.ndarray) -> np.ndarray:
     """Determinants of a stack of 1x1, 2x2 or 3x3 matrices (closed form).
 

@@ -228,7 +228,7 @@ def region_measure(region: Region | None) -> float | None:
         return None
     parts = region.regions if isinstance(region, Intersection) else (region,)
     if len(parts) == 1 and not isinstance(parts[0], LevelSet):
-        size = parts[0].measure
+        size = parts[0].measure()
         return size if np.isfinite(size) else None
     level = next((r for r in parts if isinstance(r, LevelSet)), None)
     if level is not None:
@@ -357,7 +357,7 @@ def _check_pieces(mesh: Mesh, pieces: object) -> tuple[np.ndarray, np.ndarray]:
     if bad.any():
         raise InterpError(
             f"{int(bad.sum())} piece(s) name a parent cell outside 0..{mesh.n_cells - 1}, "
-            f"the first is piece {int(np.flatnonzero(bad)[0])}"
+            f"the first is piece {int(np.flatnonzero(bad)[0]) + 1} (counting from 1)"
         )
     if not np.isfinite(corners).all():
         raise InterpError("pieces have NaN or infinite corner coordinates")

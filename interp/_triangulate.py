@@ -268,7 +268,8 @@ def _report_unused(
     if not used.all():
         missing = np.flatnonzero(~used)
         warnings.warn(
-            f"{missing.size} point(s) are in no cell, the first at index {missing[0]}: they "
+            f"{missing.size} point(s) are in no cell, the first is point {missing[0] + 1} "
+            "(counting from 1): they "
             f"nearly coincide with other points or lie only in cells too thin to use; "
             f"their values are not used (merge or remove them)",
             stacklevel=3,

@@ -22,10 +22,10 @@ import interp
 from interp._breaklines import segment_lengths
 from interp._cli_args import (
     Parser,
-    Progress,
     count,
     emit,
     las_options,
+    lines_of,
     numbers,
     open_source,
     places,
@@ -38,6 +38,7 @@ from interp._cli_args import (
 from interp._cli_run import run
 from interp._format import decimals, number, table, unit_power
 from interp._kernels import set_announce
+from interp._progress import enable
 from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs, read_las_points
 from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
@@ -113,14 +114,14 @@ def info_grid(args: argparse.Namespace) -> None:
     for name, f in info["fields"].items():
         lines.append(
             f"field {name}: {f['components']} component(s), range "
-            f"{number(f['min'], 6)}..{number(f['max'], 6)}, {f['nan']:,} node(s) without data"
+            f"{number(f['min'], 6)}..{number(f['max'], 6)}{unit_suffix(f.get('units'))}, "
+            f"{f['nan']:,} node(s) without data"
         )
     emit(args, info, lines)
 
 
 def cmd_grid(args: argparse.Namespace) -> None:
     fields = open_source(args)
-    stage(args, "evaluating the grid")
     bounds = None if args.bounds is None else corner_bounds(args.bounds)
     grid = interp.to_grid(fields, spacing=args.spacing, bounds=bounds)
     if not any((~np.isnan(v)).any() for v in grid.fields.values()):
@@ -137,7 +138,7 @@ def cmd_grid(args: argparse.Namespace) -> None:
                 "write .tif or .nc to keep it",
                 stacklevel=1,
             )
-    stage(args, f"writing {args.output}")
+    stage(f"writing {args.output}")
     out = grid.save(args.output)
     inside = sum(int((~np.isnan(v)).sum()) for v in grid.fields.values())
     stored = ""
@@ -152,13 +153,12 @@ def cmd_grid(args: argparse.Namespace) -> None:
 
 def cmd_sample(args: argparse.Namespace) -> None:
     fields = open_source(args)
-    progress = Progress("sampled", args.quiet)
     with ExitStack() as stack:
         evaluate = None
         if args.workers is not None or args.scheduler is not None:
             from interp.parallel import evaluator
 
-            stage(args, "starting the dask workers")
+            stage("starting the dask workers")
             evaluate = stack.enter_context(evaluator(args.workers, args.scheduler))
         report = sample_file(
             fields,
@@ -166,10 +166,8 @@ def cmd_sample(args: argparse.Namespace) -> None:
             args.output,
             coords=args.coords,
             chunk_rows=args.chunk_rows,
-            progress=progress,
             evaluate=evaluate,
         )
-    progress.close()
     renamed = {c: o for c, o in report.columns.items() if c != o}
     if args.json:
         result = {
@@ -315,7 +313,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
     found = interp.read_lines(args.breaklines) if args.breaklines else None
     result, lines, residuals = {}, [], {}
     for name, v in values.items():
-        stage(args, f"leave-one-out residuals of {name}")
+        stage(f"leave-one-out residuals of {name}")
         residuals[name] = interp.crossvalidate(
             points,
             v,
@@ -325,8 +323,7 @@ def cmd_crossval(args: argparse.Namespace) -> None:
             breaklines=found,
         )
         residuals[name][beyond] = np.nan
-        stats = interp.residual_summary(points, residuals[name], worst=0)
-        del stats["worst"]
+        stats = interp.residual_summary(points, residuals[name])
         stats["outside_boundary"] = int(beyond.sum())
         result[name] = {**stats, "units": args.units}
         k = decimals(v)
@@ -361,7 +358,7 @@ def cmd_contour(args: argparse.Namespace) -> None:
     if (args.interval is None) == (args.levels is None):
         raise interp.InterpError("give the contour levels with --interval STEP or --levels A,B,C")
     field = first_field(open_source(args))
-    stage(args, "tracing contours")
+    stage("tracing contours")
     lines = interp.contours(
         field,
         args.levels,
@@ -390,8 +387,10 @@ def cmd_view(args: argparse.Namespace) -> None:
         contours=args.contours,
         edges=args.edges,
         points=args.points or None,
+        breaklines=lines_of(args.breaklines),
         screenshot=args.screenshot,
         title=args.title,
+        coordinate_units=args.units,
     )
     if out is not None and not args.quiet:
         print(f"wrote {out}")
@@ -563,7 +562,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--warp", type=float, help="vertical exaggeration of the surface")
     p.add_argument("--contours", type=int, help="number of contour levels (1 to 100), labelled")
     p.add_argument("--title", help="title above the picture (default the field and its units)")
-    p.add_argument("--edges", action="store_true", help="draw cell edges")
+    p.add_argument(
+        "--edges",
+        action="store_true",
+        help="draw cell edges (the lines of --breaklines are drawn in magenta in any case)",
+    )
     p.add_argument("--points", action="store_true", help="draw the data points")
     p.add_argument("--screenshot", type=Path, help="write a PNG instead of opening a window")
     source_options(p)
@@ -584,8 +587,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     interp 0.1.0
     """
     args = build_parser().parse_args(argv)
-    if getattr(args, "quiet", False):
+    quiet = getattr(args, "quiet", False)
+    if quiet:
         set_announce(False)
+    # live bars of the long steps, on a terminal only (never piped, never with --quiet)
+    enable(not quiet and sys.stderr.isatty())
     return run(args)
 
 

@@ -30,6 +30,7 @@ import numpy as np
 
 from interp._geometry import SLIVER, barycentric, check_fills_space, simplex_geometry
 from interp._kernels.clip import assemble, classify, cut_cells
+from interp._progress import task
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import Location
@@ -462,38 +463,22 @@ def _clip_polygon(tri: np.ndarray, rings: list[np.ndarray]):
     segments = ring_edges(rings)[0]
     grid = EdgeGrid(segments, cell=_typical_size(tri, segments))
     nx, ny = int(grid.shape[0]), int(grid.shape[1])
+    rows = (grid.lo, grid.h, nx, ny)
     status = np.empty(len(tri), dtype=np.int8)
-    classify(
-        tri,
-        grid.lo,
-        grid.h,
-        nx,
-        ny,
-        grid.occupied,
-        segments,
-        grid.row_start,
-        grid.row_members,
-        status,
-    )
-    cand = np.flatnonzero(status == 2)
-    start, pieces = cut_cells(
-        tri,
-        cand,
-        grid.lo,
-        grid.h,
-        nx,
-        ny,
-        grid.start,
-        grid.members,
-        segments,
-        grid.row_start,
-        grid.row_members,
-    )
-    n = int(np.count_nonzero(status == 1)) + int(start[-1])
-    out = np.empty((n, 3, 2))
-    src = np.empty(n, dtype=np.int64)
-    whole = np.empty(n, dtype=np.bool_)
-    assemble(tri, status, start, pieces, out, src, whole)
+    with task("clipping to the polygon", total=3) as advance:
+        classify(tri, *rows, grid.occupied, segments, grid.row_start, grid.row_members, status)
+        advance(1)
+        cand = np.flatnonzero(status == 2)
+        start, pieces = cut_cells(
+            tri, cand, *rows, grid.start, grid.members, segments, grid.row_start, grid.row_members
+        )
+        advance(1)
+        n = int(np.count_nonzero(status == 1)) + int(start[-1])
+        out = np.empty((n, 3, 2))
+        src = np.empty(n, dtype=np.int64)
+        whole = np.empty(n, dtype=np.bool_)
+        assemble(tri, status, start, pieces, out, src, whole)
+        advance(1)
     return out, src, whole
 
 

@@ -20,6 +20,7 @@ import numpy as np
 from interp import parallel
 from interp._arrays import as_floats
 from interp._geometry import grid_nodes
+from interp._progress import task
 from interp.errors import InterpError
 from interp.field import Field
 from interp.index import CellIndex, Location
@@ -425,11 +426,15 @@ def to_grid(
         name: np.empty((total,) + f.values.shape[1:], dtype=np.float64) for name, f in named.items()
     }
     rows = max(1, BLOCK_NODES // max(1, total // shape[0]))
-    for s in range(0, shape[0], rows):
-        block = (axes[0][s : s + rows],) + axes[1:]
-        start = s * (total // shape[0])
-        for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
-            out[name][start : start + len(v)] = v
+    for m in meshes:
+        _ = m.index  # built before the grid's bar starts: it has a bar of its own
+    with task("evaluating the grid", total=total, unit="nodes") as advance:
+        for s in range(0, shape[0], rows):
+            block = (axes[0][s : s + rows],) + axes[1:]
+            start = s * (total // shape[0])
+            for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
+                out[name][start : start + len(v)] = v
+            advance(len(block[0]) * (total // shape[0]))
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
     if all(np.isnan(v).all() for v in out.values()):
         warnings.warn(

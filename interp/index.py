@@ -46,6 +46,7 @@ from interp._kernels.locate import (
     scan,
     scan_grid,
 )
+from interp._progress import task
 
 #: buckets per cell in the index grid, by dimension (tuned with scripts/bench.py:
 #: a tetrahedron's bounding box is large for its volume, so 3D takes fewer).
@@ -138,15 +139,19 @@ class CellIndex:
         self.affine = mesh.affine
         i0 = np.empty((mesh.n_cells, g), dtype=np.int32)  # bucket range of each cell's box
         i1 = np.empty_like(i0)
-        scaled = (mesh.points - self.center) / self.scale
-        in_parts(
-            mesh.n_cells,
-            threads(mesh.n_cells, mesh.n_cells),
-            lambda c0, c1: cell_boxes(
-                scaled, mesh.corners, self.lo, self.h, self.shape, pad, i0, i1, c0, c1
-            ),
-        )
-        self.start, self.members = _bucket_cells(i0, i1, self.lo, self.h, self.shape, self.affine)
+        with task("building the point index", total=3) as advance:
+            scaled = (mesh.points - self.center) / self.scale
+            in_parts(
+                mesh.n_cells,
+                threads(mesh.n_cells, mesh.n_cells),
+                lambda c0, c1: cell_boxes(
+                    scaled, mesh.corners, self.lo, self.h, self.shape, pad, i0, i1, c0, c1
+                ),
+            )
+            advance(1)
+            self.start, self.members = _bucket_cells(
+                i0, i1, self.lo, self.h, self.shape, self.affine, advance
+            )
 
     @property
     def n_buckets(self) -> int:
@@ -184,7 +189,7 @@ class CellIndex:
         return Location(cells, bary)
 
 
-def _bucket_cells(i0, i1, lo, h, shape, affine):
+def _bucket_cells(i0, i1, lo, h, shape, affine, advance):
     """CSR lists, in ascending cell order, of the cells that reach into each bucket.
 
     A cell is listed in the buckets of its bounding box [i0, i1]; in 3D less
@@ -193,6 +198,7 @@ def _bucket_cells(i0, i1, lo, h, shape, affine):
     triangle fills half of its box, and in 2D the test costs more than it saves).
     Large meshes are done in slabs of the first grid axis, one thread each:
     the slabs write disjoint buckets, and the lists come out the same.
+    ``advance(1)`` is called after each of the two passes (a progress stage).
     """
     m, g = i0.shape
     # one run of buckets along the last axis for each row of each cell's box
@@ -209,10 +215,12 @@ def _bucket_cells(i0, i1, lo, h, shape, affine):
         lambda a0, a1: find_runs(i0, i1, lo, h, shape, affine, first, a0, a1, runs, count),
     )
     np.cumsum(start, out=start)
+    advance(1)
     # half the memory, and faster scans, wherever cell numbers fit
     members = np.empty(start[-1], dtype=np.int32 if m < 2**31 else np.int64)
     slot = start[:-1].copy()
     in_parts(n0, parts, lambda a0, a1: fill_runs(i0, i1, shape, first, a0, a1, runs, slot, members))
+    advance(1)
     return start, members
 
 

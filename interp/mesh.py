@@ -426,13 +426,13 @@ def _check_indices(cells: np.ndarray, n: int) -> None:
         row = int(out_of_range[0])
         raise InterpError(
             f"cells refer to nodes outside 0..{n - 1}: {out_of_range.size} cell(s), "
-            f"the first is cell {row} = {cells[row].tolist()}"
+            f"the first is cell {row + 1} (counting from 1), nodes {cells[row].tolist()} as given"
         )
     if repeated.size:
         row = int(repeated[0])
         raise InterpError(
-            f"{repeated.size} cell(s) repeat a node, the first is cell {row} = "
-            f"{cells[row].tolist()}; each cell needs distinct nodes"
+            f"{repeated.size} cell(s) repeat a node, the first is cell {row + 1} (counting from "
+            f"1), nodes {cells[row].tolist()} as given; each cell needs distinct nodes"
         )
 
 
@@ -442,8 +442,8 @@ def _check_measure(mesh: Mesh) -> None:
     if bad.any():
         idx = np.flatnonzero(bad)
         raise InterpError(
-            f"{idx.size} cell(s) have zero {('length', 'area', 'volume')[mesh.dim - 1]}, "
-            f"the first at indices {idx[:5].tolist()}; remove degenerate cells"
+            f"{idx.size} cell(s) have zero {('length', 'area', 'volume')[mesh.dim - 1]}: "
+            f"{_first_cells(idx)}; remove degenerate cells"
         )
 
 
@@ -457,6 +457,13 @@ def _check_midpoints(mesh: Mesh) -> None:
     if off.any():
         idx = np.flatnonzero(off)
         raise InterpError(
-            f"{idx.size} quadratic cell(s) have midpoint nodes away from their edge midpoints, "
-            f"the first at indices {idx[:5].tolist()}; curved cells are not supported"
+            f"{idx.size} quadratic cell(s) have midpoint nodes away from their edge midpoints: "
+            f"{_first_cells(idx)}; curved cells are not supported"
         )
+
+
+def _first_cells(rows: np.ndarray, shown: int = 5) -> str:
+    """Up to ``shown`` cell rows named counting from 1, as messages give them."""
+    more = ", ..." if len(rows) > shown else ""
+    listed = ", ".join(str(r + 1) for r in rows[:shown])
+    return f"cell{'s' * (len(rows) > 1)} {listed}{more} (counting from 1)"

@@ -27,6 +27,7 @@ import numpy as np
 
 from interp._arrays import as_points, is_dask
 from interp._geometry import grid_nodes
+from interp._renamed import renamed
 from interp.errors import InterpError
 
 if TYPE_CHECKING:
@@ -74,8 +75,9 @@ def _evaluate_block(points: np.ndarray, *, shipped: tuple[Any], what: str, outsi
     return field(points, outside) if what == "value" else field.gradient(points)
 
 
+@renamed(points="query")
 def evaluate(
-    field: Any, points: dask.array.Array, *, what: str = "value", outside: float = np.nan
+    field: Any, query: dask.array.Array, *, what: str = "value", outside: float = np.nan
 ) -> dask.array.Array:
     """Evaluate a field, or its gradient, at a dask array of query points, lazily.
 
@@ -83,7 +85,7 @@ def evaluate(
     ----------
     field : Field
         The field; it is sent to the workers once, with its mesh's spatial index.
-    points : dask array (n, g)
+    query : dask array (n, g)
         Query points chunked along rows (columns are merged into one chunk).
     what : {"value", "gradient"}
         Field values, or spatial gradients.
@@ -94,8 +96,8 @@ def evaluate(
     -------
     dask array
         ``(n,)`` or ``(n, c)`` values, ``(n, g)`` or ``(n, g, c)`` gradients, with
-        the row chunks of ``points``; equal to ``field(points)`` or
-        ``field.gradient(points)`` computed in memory.
+        the row chunks of ``query``; equal to ``field(query)`` or
+        ``field.gradient(query)`` computed in memory.
 
     Examples
     --------
@@ -114,7 +116,7 @@ def evaluate(
         raise InterpError(f"evaluate needs an interp.Field, not {type(field).__name__}")
     if what not in ("value", "gradient"):
         raise InterpError(f"what must be 'value' or 'gradient'; got {what!r}")
-    pts = _dask_points(points, field.mesh.gdim)
+    pts = _dask_points(query, field.mesh.gdim)
     core = {"value": ("()", "(c)"), "gradient": ("(g)", "(g,c)")}[what][field.values.ndim - 1]
     return da.apply_gufunc(
         _evaluate_block,
@@ -134,14 +136,15 @@ def _locate_block(points: np.ndarray, *, shipped: tuple[Any]) -> tuple[np.ndarra
     return loc.cells, loc.bary
 
 
-def locate(mesh: Any, points: dask.array.Array) -> Any:
+@renamed(points="query")
+def locate(mesh: Any, query: dask.array.Array) -> Any:
     """Locate a dask array of query points in a mesh, lazily.
 
     Returns
     -------
     Location
         Whose ``cells`` (n,) int64 and ``bary`` (n, dim + 1) are dask arrays
-        chunked like the rows of ``points``; compute them together
+        chunked like the rows of ``query``; compute them together
         (``dask.compute(loc.cells, loc.bary)``) to locate each block once.
 
     Examples
@@ -158,7 +161,7 @@ def locate(mesh: Any, points: dask.array.Array) -> Any:
 
     if not _is(mesh, "Mesh"):
         raise InterpError(f"locate needs an interp.Mesh, not {type(mesh).__name__}")
-    pts = _dask_points(points, mesh.gdim)
+    pts = _dask_points(query, mesh.gdim)
     shipped = _ship(mesh)
     cells, bary = da.apply_gufunc(
         _locate_block,

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from interp._geometry import cross_z
 from interp._kernels.polygon import first_pair, inside_many, visit_edges
 from interp.errors import InterpError
 
@@ -47,10 +48,65 @@ def as_ring(vertices: object, name: str = "polygon") -> np.ndarray:
     if not np.isfinite(ring).all():
         raise InterpError(f"{name} has NaN or infinite vertex coordinates")
     if len(ring) > 1:
-        ring = ring[np.any(ring != np.roll(ring, 1, axis=0), axis=1)]
+        ring = ring[distinct_vertices(ring)]
     if len(ring) < 3:
         raise InterpError(f"{name} needs at least 3 distinct vertices; got {len(ring)}")
     return np.ascontiguousarray(ring)
+
+
+def distinct_vertices(ring: np.ndarray) -> np.ndarray:
+    """The vertices :func:`as_ring` keeps: each that differs from the one before it
+    (the first compared with the last, so a closing vertex keeps its place of the first).
+
+    Examples
+    --------
+    >>> distinct_vertices(np.array([[0.0, 0], [1, 0], [1, 0], [0, 1], [0, 0]])).tolist()
+    [False, True, False, True, True]
+    """
+    return np.any(ring != np.roll(ring, 1, axis=0), axis=1)
+
+
+def ring_names(n: int) -> list[str]:
+    """Names of the rings of a polygon of n rings: the exterior, then holes counted from 1.
+
+    Examples
+    --------
+    >>> ring_names(3)
+    ['exterior', 'hole 1', 'hole 2']
+    """
+    return ["exterior"] + [f"hole {k}" for k in range(1, n)]
+
+
+def crossing_text(
+    rings: list[np.ndarray], names: list[str], labels: list[list[str]] | None = None
+) -> str | None:
+    """The first pair of edges that cross, touch or overlap, in words; None for simple rings.
+
+    Edges and vertices count from 1 in each ring (edge k runs from vertex k
+    to vertex k + 1, the last back to vertex 1); with ``labels``, a name for
+    each vertex of each ring (such as the file line it came from), an edge
+    is named by its ends, and an empty ring name is left out.
+
+    Examples
+    --------
+    >>> bowtie = np.array([[0.0, 0], [1, 1], [1, 0], [0, 1]])
+    >>> crossing_text([bowtie], ["exterior"])
+    'exterior edge 1 (vertex 1 to 2) meets exterior edge 3 (vertex 3 to 4)'
+    >>> crossing_text([bowtie], ["ring 0"], [["line 2", "line 3", "line 4", "line 5"]])
+    'the ring 0 edge from line 2 to line 3 meets the ring 0 edge from line 4 to line 5'
+    """
+    hit = first_crossing(rings)
+    if hit is None:
+        return None
+    parts = []
+    for ring, edge in hit:
+        after = (edge + 1) % len(rings[ring])
+        if labels is None:
+            parts.append(f"{names[ring]} edge {edge + 1} (vertex {edge + 1} to {after + 1})")
+        else:
+            name = f"{names[ring]} " if names[ring] else ""
+            parts.append(f"the {name}edge from {labels[ring][edge]} to {labels[ring][after]}")
+    return " meets ".join(parts)
 
 
 def ring_area(ring: np.ndarray) -> float:
@@ -148,6 +204,52 @@ class EdgeGrid:
             out,
         )
         return out
+
+    def crossings(self, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Where segments a -> b (rows of (n, 2) arrays) cross the grid's segments.
+
+        Returns, for each crossing, the row of ``a``/``b`` that crosses and the
+        parameter t in (0, 1) of the crossing along it (a touch at either end
+        of that row is not a crossing).  Only pairs sharing a bucket are tested.
+
+        Examples
+        --------
+        >>> sq = np.array([[0.0, 0], [2, 0], [2, 2], [0, 2]])
+        >>> grid = EdgeGrid(ring_edges([sq])[0])
+        >>> a, b = np.array([[1.0, 1.0], [3.0, 3.0]]), np.array([[3.0, 1.0], [4.0, 3.0]])
+        >>> s, t = grid.crossings(a, b)
+        >>> s.tolist(), t.tolist()
+        ([0], [0.5])
+        """
+        nx, ny = int(self.shape[0]), int(self.shape[1])
+        lo_xy = (np.minimum(a, b) - self.lo) / self.h
+        hi_xy = (np.maximum(a, b) - self.lo) / self.h
+        near = np.flatnonzero((hi_xy >= 0).all(axis=1) & (lo_xy[:, 0] <= nx) & (lo_xy[:, 1] <= ny))
+        i0 = np.clip(np.floor(lo_xy[near, 0]), 0, nx - 1).astype(np.int64)
+        i1 = np.clip(np.floor(hi_xy[near, 0]), 0, nx - 1).astype(np.int64)
+        j0 = np.clip(np.floor(lo_xy[near, 1]), 0, ny - 1).astype(np.int64)
+        j1 = np.clip(np.floor(hi_xy[near, 1]), 0, ny - 1).astype(np.int64)
+        wide = i1 - i0 + 1
+        n_buckets = wide * (j1 - j0 + 1)
+        owner = np.repeat(np.arange(len(near)), n_buckets)
+        k = np.arange(len(owner)) - np.repeat(np.cumsum(n_buckets) - n_buckets, n_buckets)
+        bucket = (j0[owner] + k // wide[owner]) * nx + i0[owner] + k % wide[owner]
+        n_members = self.start[bucket + 1] - self.start[bucket]
+        pair_seg = np.repeat(near[owner], n_members)
+        k = np.arange(len(pair_seg)) - np.repeat(np.cumsum(n_members) - n_members, n_members)
+        pair_edge = self.members[np.repeat(self.start[bucket], n_members) + k]
+        n_edges = len(self.segments)
+        key = np.unique(pair_seg * n_edges + pair_edge)
+        s, e = np.divmod(key, n_edges)
+        p, r = a[s], b[s] - a[s]
+        q, d = self.segments[e, :2], self.segments[e, 2:] - self.segments[e, :2]
+        w = q - p
+        denom = cross_z(r, d)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = cross_z(w, d) / denom
+            u = cross_z(w, r) / denom
+            hit = (denom != 0) & (t > 0) & (t < 1) & (u >= 0) & (u <= 1)
+        return s[hit], t[hit]
 
 
 def contains(rings: list[np.ndarray], points: np.ndarray) -> np.ndarray:

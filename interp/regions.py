@@ -22,9 +22,18 @@ import numpy as np
 
 from interp._arrays import as_points
 from interp._geometry import ZERO_AREA, check_fills_space
+from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
-from interp.polygon import EdgeGrid, as_ring, contains, first_crossing, ring_area, ring_edges
+from interp.polygon import (
+    EdgeGrid,
+    as_ring,
+    contains,
+    crossing_text,
+    ring_area,
+    ring_edges,
+    ring_names,
+)
 
 
 class Region:
@@ -40,9 +49,10 @@ class Region:
 
     gdim: int
 
-    def contains(self, points: object) -> np.ndarray:
-        """Whether each of the (n, gdim) points lies in the region (boundary included)."""
-        return self._contains(as_points(points, "points", gdim=self.gdim))
+    @renamed(points="query")
+    def contains(self, query: object) -> np.ndarray:
+        """Whether each of the (n, gdim) query points lies in the region (boundary included)."""
+        return self._contains(as_points(query, "query points", gdim=self.gdim))
 
     def _contains(self, points: np.ndarray) -> np.ndarray:
         raise NotImplementedError
@@ -52,7 +62,6 @@ class Region:
         """Bounding box (2, gdim) of the region, row 0 minima, row 1 maxima; None if unbounded."""
         return None
 
-    @property
     def measure(self) -> float:
         """Length, area or volume of the region."""
         raise InterpError(
@@ -99,17 +108,13 @@ class Polygon(Region):
 
     def __init__(self, exterior: object, holes: object = ()) -> None:
         holes = list(holes)
-        names = ["exterior"] + [f"hole {k}" for k in range(len(holes))]
-        rings = [as_ring(exterior, "polygon exterior")]
-        rings += [as_ring(h, f"polygon hole {k}") for k, h in enumerate(holes)]
-        hit = first_crossing(rings)
-        if hit is not None:
-            (ra, ea), (rb, eb) = hit
+        names = ring_names(len(holes) + 1)
+        rings = [as_ring(r, f"polygon {n}") for r, n in zip([exterior, *holes], names, strict=True)]
+        crossing = crossing_text(rings, names)
+        if crossing is not None:
             raise InterpError(
-                f"polygon is not simple: {names[ra]} edge {ea} "
-                f"(vertex {ea} to {(ea + 1) % len(rings[ra])}) meets {names[rb]} edge {eb} "
-                f"(vertex {eb} to {(eb + 1) % len(rings[rb])}); reorder the vertices so no "
-                "edges cross or touch, or split the polygon"
+                f"polygon is not simple: {crossing}; reorder the vertices so no edges cross or "
+                "touch, or split the polygon"
             )
         if len(rings) > 1:
             firsts = np.array([r[0] for r in rings[1:]])
@@ -156,17 +161,17 @@ class Polygon(Region):
     def bounds(self) -> np.ndarray:
         return self._bounds.copy()
 
-    @property
     def measure(self) -> float:
         """The area: shoelace area of the exterior minus that of the holes."""
         return self.area
 
     @cached_property
-    def _grid(self) -> EdgeGrid:
+    def edge_grid(self) -> EdgeGrid:
+        """The polygon's edges in a bucket grid (inside and crossing tests), built once."""
         return EdgeGrid(ring_edges(self.rings)[0])
 
     def _contains(self, points: np.ndarray) -> np.ndarray:
-        return self._grid.contains(points)
+        return self.edge_grid.contains(points)
 
 
 class Box(Region):
@@ -176,7 +181,7 @@ class Box(Region):
     --------
     >>> from interp import Box
     >>> b = Box([0, 0, 0], [1, 2, 3])
-    >>> b.measure
+    >>> b.measure()
     6.0
     >>> b.contains([[0.5, 1.0, 3.0], [0.5, 2.5, 1.0]]).tolist()
     [True, False]
@@ -206,7 +211,6 @@ class Box(Region):
     def bounds(self) -> np.ndarray:
         return np.array([self.lo, self.hi])
 
-    @property
     def measure(self) -> float:
         """Length, area or volume: the product of the side lengths."""
         return float(np.prod(self.hi - self.lo))
@@ -240,7 +244,7 @@ class HalfSpace(Region):
     >>> below = HalfSpace([0, 0, 1], 10.0)
     >>> below.contains([[0, 0, 9.5], [0, 0, 10.5]]).tolist()
     [True, False]
-    >>> below.measure
+    >>> below.measure()
     inf
     """
 
@@ -258,7 +262,6 @@ class HalfSpace(Region):
     def __repr__(self) -> str:
         return f"HalfSpace({self.normal.tolist()}, {self.offset:g})"
 
-    @property
     def measure(self) -> float:
         """Infinite: a half-space is unbounded."""
         return float("inf")

@@ -111,7 +111,8 @@ def profile(
     length, start = polyline_lengths(vertices)
     if (length == 0).any():
         raise InterpError(
-            f"the profile line repeats a vertex (segment {int(np.argmin(length))} has zero length)"
+            f"the profile line repeats a vertex (segment {int(np.argmin(length)) + 1}, counting "
+            "from 1, has zero length)"
         )
     with np.errstate(over="ignore"):
         steps = np.ceil(length / step * (1 - 1e-12))

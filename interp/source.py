@@ -17,6 +17,8 @@ from pathlib import Path
 import numpy as np
 
 from interp._fit import fit
+from interp._progress import task
+from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
 from interp.io import (
@@ -45,6 +47,7 @@ def is_point_file(path: str | Path) -> bool:
     return point_reader(path) is not None
 
 
+@renamed(field="name")
 def load(
     path: str | Path,
     *,
@@ -53,7 +56,7 @@ def load(
     max_edge: float | None = None,
     boundary: object | None = None,
     breaklines: list[object] | None = None,
-    field: str | None = None,
+    name: str | None = None,
     classes: Sequence[int] | None = None,
     every: int | None = None,
     lowest_per_cell: float | None = None,
@@ -76,8 +79,9 @@ def load(
         Point files only: passed to :func:`interp.fit`.  Breakline values
         are used when one field is fitted; with several, the lines are used
         as x, y only (each field's values along them come from its data).
-    field : str, optional
-        Keep only this field.
+    name : str, optional
+        Keep only the field of this name.  (``field=`` is the old spelling
+        of this keyword.)
     classes, every, lowest_per_cell
         LAS/LAZ files only: classification codes to keep, every n-th point,
         the lowest point per square cell of this size; see
@@ -107,41 +111,41 @@ def load(
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
             )
-        chosen = choose_fields(values, field, path)
+        chosen = choose_fields(values, name, path)
         if breaklines is not None and len(chosen) > 1:
             breaklines = [np.asarray(line, dtype=float)[:, :2] for line in breaklines]
         options = {"order": order, "max_edge": max_edge, "boundary": boundary}
         fields = {}
-        for name, v in chosen.items():
+        for column, v in chosen.items():
             try:
-                fields[name] = fit(
-                    points, v, **options, breaklines=breaklines, name=name, units=units
+                fields[column] = fit(
+                    points, v, **options, breaklines=breaklines, name=column, units=units
                 )
             except InterpError as exc:
-                raise InterpError(f"{path}, column {name!r}: {exc}") from None
+                raise InterpError(f"{path}, column {column!r}: {exc}") from None
         return fields
     mesh, data = read(path)
     if not data:
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
-    chosen = choose_fields(data, field, path)
-    return {name: Field(mesh, v, name=name, units=units) for name, v in chosen.items()}
+    chosen = choose_fields(data, name, path)
+    return {key: Field(mesh, v, name=key, units=units) for key, v in chosen.items()}
 
 
-def choose_fields(values: dict[str, np.ndarray], field: str | None, path: str | Path) -> dict:
-    """All of ``values``, or only the one named ``field`` (an error lists the names).
+def choose_fields(values: dict[str, np.ndarray], name: str | None, path: str | Path) -> dict:
+    """All of ``values``, or only the one called ``name`` (an error lists the names).
 
     Examples
     --------
     >>> list(choose_fields({"z": 1, "t": 2}, "t", "f.csv"))
     ['t']
     """
-    if field is None:
+    if name is None:
         return values
-    if field not in values:
+    if name not in values:
         raise InterpError(
-            f"{path}: no field named {field!r}; available: {', '.join(values) or 'none'}"
+            f"{path}: no field named {name!r}; available: {', '.join(values) or 'none'}"
         )
-    return {field: values[field]}
+    return {name: values[name]}
 
 
 #: what the measure of a mesh's cells is, by their topological dimension.
@@ -209,14 +213,17 @@ def value_summary(values: object, components: int) -> dict:
 
 def is_grid_file(path: str | Path) -> bool:
     """True when ``path`` has the suffix of a grid format interp reads back
-    (:data:`interp.io.GRID_READERS`: ``.npz``, ``.vti``, ``.zarr``).
+    (:data:`interp.io.GRID_READERS`: ``.npz``, ``.vti``, ``.zarr``, ``.tif``, ``.nc``).
+    A ``.csv`` is a point file to every command, a grid one included (its
+    units are in its column names); :func:`interp.io.read_grid` reads it as a grid.
 
     Examples
     --------
-    >>> is_grid_file("yard.vti"), is_grid_file("yard.csv")
-    (True, False)
+    >>> is_grid_file("yard.vti"), is_grid_file("yard.tif"), is_grid_file("yard.csv")
+    (True, True, False)
     """
-    return Path(path).suffix.lower() in GRID_READERS
+    suffix = Path(path).suffix.lower()
+    return suffix in GRID_READERS and suffix != ".csv"
 
 
 def describe_grid(path: str | Path) -> dict:
@@ -278,7 +285,6 @@ def sample_file(
     *,
     coords: Sequence[str] = ("x", "y"),
     chunk_rows: int = 500_000,
-    progress: Callable[[int], None] | None = None,
     evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
 ) -> SampleReport:
     """Evaluate fields at the points of a query file, streaming it in chunks.
@@ -328,6 +334,7 @@ def sample_file(
     rows = outside = 0
     sampled = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
+        advance = stack.enter_context(task("sampling", unit="rows"))
         writer = None
         blocks = _query_blocks(query, coords, chunk_rows)
         for head, delimiter, text, points, lead, numeric in blocks:
@@ -354,8 +361,7 @@ def sample_file(
             block = np.column_stack(table)
             writer.write(text, block if lead is None else np.hstack([lead, block]))
             rows += len(points)
-            if progress:
-                progress(rows)
+            advance(len(points))
         if writer is None:
             raise InterpError(f"{query}: the query file has no data rows")
     checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}

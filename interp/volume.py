@@ -25,6 +25,7 @@ import numpy as np
 
 from interp._integrate import integrate_pieces, measure, region_measure, uncovered
 from interp._overlay import overlay_cells
+from interp._progress import task
 from interp.clip import (
     Pieces,
     check_region,
@@ -142,19 +143,24 @@ def volume_between(
         check_region(region, 2)
     if not isinstance(subdivisions, int) or subdivisions < 0:
         raise InterpError(f"subdivisions must be an integer >= 0; got {subdivisions!r}")
-    corners, pa, pb = _common_pieces(upper, lower, level, region)
-    extent = _extent(upper, lower, level, region, float(Pieces(pa, corners).measure().sum()))
-    d = _difference(upper, lower, level, corners, pa, pb)
-    known = ~np.isnan(d).any(axis=1)
-    corners, pa, pb, d = corners[known], pa[known], pb[known], d[known]
-    degree = max(upper.mesh.order, 1 if level is not None else lower.mesh.order)
-    if degree == 2:
-        corners, src = _subdivide(corners, subdivisions)
-        pa, pb = pa[src], pb[src]
+    with task("volumes between the surfaces", total=4) as advance:
+        corners, pa, pb = _common_pieces(upper, lower, level, region)
+        advance(1)
+        extent = _extent(upper, lower, level, region, float(Pieces(pa, corners).measure().sum()))
         d = _difference(upper, lower, level, corners, pa, pb)
-    area = float(Pieces(pa, corners).measure().sum())
-    above = _integral(upper, lower, level, *_part(corners, pa, pb, -d), degree)
-    below = 0.0 - _integral(upper, lower, level, *_part(corners, pa, pb, d), degree)
+        known = ~np.isnan(d).any(axis=1)
+        corners, pa, pb, d = corners[known], pa[known], pb[known], d[known]
+        degree = max(upper.mesh.order, 1 if level is not None else lower.mesh.order)
+        if degree == 2:
+            corners, src = _subdivide(corners, subdivisions)
+            pa, pb = pa[src], pb[src]
+            d = _difference(upper, lower, level, corners, pa, pb)
+        area = float(Pieces(pa, corners).measure().sum())
+        advance(1)
+        above = _integral(upper, lower, level, *_part(corners, pa, pb, -d), degree)
+        advance(1)
+        below = 0.0 - _integral(upper, lower, level, *_part(corners, pa, pb, d), degree)
+        advance(1)
     missing = uncovered(extent, area, "the volume")
     return Volumes(above=above, below=below, net=above - below, area=area, uncovered=missing)
 

@@ -223,6 +223,13 @@ def bench_crossvalidate_section(small: bool) -> None:
     bench_constrained(10_000 if small else 100_000)
 
 
+def bench_triangulate_section(small: bool) -> None:
+    """Our exact 2D Delaunay against scipy's Qhull: survey-like inputs, breaklines, scale."""
+    from bench_triangulate import main as bench_triangulate
+
+    bench_triangulate(["--small"] if small else [])
+
+
 def bench_las_section(small: bool) -> None:
     """Reading LAS/LAZ clouds, whole and thinned, against laspy's whole-file read."""
     from bench_las import bench_las
@@ -232,6 +239,7 @@ def bench_las_section(small: bool) -> None:
 
 SECTIONS = {
     "locate": bench_locate,
+    "triangulate": bench_triangulate_section,
     "grid": bench_grid,
     "clip": bench_clip_section,
     "crossvalidate": bench_crossvalidate_section,

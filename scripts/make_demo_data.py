@@ -4,8 +4,14 @@ The scenario is invented: the Tarrow Bend gravel yard, a fictional depot on a
 gently sloping pad.  Two survey epochs (March and June 2026) of scattered
 ground points show a conical stockpile that grew between them and a second
 pile started in June.  The base surface is the pad as surveyed before any
-stockpiling.  A fictional pump bracket, meshed with quadratic tetrahedra,
-carries a steady temperature field for the mesh-file half of the demo.
+stockpiling.  The north bay, built over the summer and surveyed on its own
+in September 2026, has sharp edges for breaklines: a concrete slab, a
+battered retaining wall along its north side and a pile of crushed rock with
+plane faces (a frustum of a square pyramid); its points lie exactly on those
+invented faces, with no survey noise, so that the volume fitted with the
+breaklines can be checked against the closed form.  A fictional pump
+bracket, meshed with quadratic tetrahedra, carries a steady temperature
+field for the mesh-file half of the demo.
 
 Usage::
 
@@ -33,6 +39,12 @@ PILES = {
     "2026_06": [(35.0, 30.0, 17.0, 6.5), (75.0, 15.0, 9.0, 3.0)],
 }
 NOISE = 0.01  # standard deviation of the survey's height error, metres
+#: the north bay: survey area (x0, y0, x1, y1); slab level; the wall's toe and top lines
+#: (y) and the level behind it; the pile: centre, toe and crest sides (square), height
+BAY_AREA = (28.0, 49.0, 68.0, 70.0)
+SLAB = 100.5
+WALL = (64.0, 64.25, 102.3)
+BAY_PILE = ((46.0, 56.5), 14.0, 4.0, 3.75)
 
 
 def pad(xy: np.ndarray) -> np.ndarray:
@@ -101,6 +113,76 @@ def make_yard(out: Path, rng: np.random.Generator) -> dict:
     return meta
 
 
+def bay_surface(xy: np.ndarray) -> np.ndarray:
+    """The north bay: slab, pile faces (each a plane), wall face, ground behind the wall."""
+    (cx, cy), toe, crest, height = BAY_PILE
+    toe_y, top_y, behind = WALL
+    m = np.maximum(np.abs(xy[:, 0] - cx), np.abs(xy[:, 1] - cy))  # square rings about the centre
+    pile = height * np.clip((toe / 2 - m) / ((toe - crest) / 2), 0.0, 1.0)
+    wall = SLAB + (behind - SLAB) * np.clip((xy[:, 1] - toe_y) / (top_y - toe_y), 0.0, 1.0)
+    return np.where(xy[:, 1] <= toe_y, SLAB + pile, wall)
+
+
+def bay_lines() -> list[np.ndarray]:
+    """Breaklines x, y, value: the pile's toe and crest, its four hips, the wall's toe and top."""
+    (cx, cy), toe, crest, height = BAY_PILE
+    square = np.array([[-1.0, -1], [1, -1], [1, 1], [-1, 1], [-1, -1]]) / 2
+    toe_ring = np.column_stack([(cx, cy) + toe * square, np.full(5, SLAB)])
+    crest_ring = np.column_stack([(cx, cy) + crest * square, np.full(5, SLAB + height)])
+    hips = [np.vstack([crest_ring[c], toe_ring[c]]) for c in range(4)]
+    x0, _, x1, _ = BAY_AREA
+    toe_y, top_y, behind = WALL
+    along = np.linspace(x0, x1, 9)  # the wall shot every 5 m
+    wall = [
+        np.column_stack([along, np.full(9, y), np.full(9, z)])
+        for y, z in ((toe_y, SLAB), (top_y, behind))
+    ]
+    return [toe_ring, crest_ring, *hips, *wall]
+
+
+def make_bay(out: Path, rng: np.random.Generator) -> dict:
+    x0, y0, x1, y1 = BAY_AREA
+    (cx, cy), toe, crest, height = BAY_PILE
+    lines = bay_lines()
+    shots = np.vstack([line[:, :2] for line in lines])  # the surveyor shoots every vertex
+    open_ground = rng.uniform((x0, y0), (x1, y1), (150, 2))
+    pile = (cx, cy) + rng.uniform(-0.55 * toe, 0.55 * toe, (250, 2))
+    corners = [[x0, y0], [x1, y0], [x1, y1], [x0, y1]]
+    xy = np.unique(np.round(np.vstack([corners, shots, open_ground, pile]), 3), axis=0)
+    xy = xy[(xy >= (x0, y0)).all(axis=1) & (xy <= (x1, y1)).all(axis=1)]
+    z = bay_surface(xy)  # exact on the faces: the heights of the millimetre positions
+    write_csv(
+        out / "yard_bay_2026_09.csv",
+        "x,y,z",
+        [f"{x:.3f},{y:.3f},{float(h)!r}" for (x, y), h in zip(xy, z, strict=True)],
+    )
+    write_csv(
+        out / "yard_bay_breaklines.csv",
+        "x,y,value,line",
+        [f"{x:g},{y:g},{v:g},{i}" for i, line in enumerate(lines) for x, y, v in line],
+    )
+    slab = [(x0, y0), (x1, y0), (x1, WALL[0]), (x0, WALL[0])]
+    write_csv(out / "yard_bay_slab.csv", "x,y", [f"{x:g},{y:g}" for x, y in slab])
+    # the pile above the slab: prismoidal formula V = h / 6 (A1 + 4 Am + A2), exact for a
+    # frustum of a pyramid (Am: the section at mid-height, side (toe + crest) / 2)
+    volume = height / 6 * (toe**2 + 4 * ((toe + crest) / 2) ** 2 + crest**2)
+    return {
+        "bay": {
+            "survey": "2026_09",
+            "points": len(xy),
+            "slab_level": SLAB,
+            "wall": {"toe_y": WALL[0], "top_y": WALL[1], "level_behind": WALL[2]},
+            "pile": {
+                "centre": [cx, cy],
+                "toe_side": toe,
+                "crest_side": crest,
+                "height": height,
+                "volume_above_slab": volume,
+            },
+        }
+    }
+
+
 def make_bracket(out: Path) -> dict:
     """A fictional pump bracket: an L-shaped block, quadratic tetrahedra, temperature in C."""
     x = np.linspace(0.0, 0.12, 13)
@@ -145,6 +227,7 @@ def main() -> None:
     args.out.mkdir(parents=True, exist_ok=True)
     rng = np.random.default_rng(2026)
     meta = make_yard(args.out, rng)
+    meta.update(make_bay(args.out, np.random.default_rng(909)))
     meta.update(make_bracket(args.out))
     (args.out / "scenario.json").write_text(json.dumps(meta, indent=2) + "\n", encoding="utf-8")
 

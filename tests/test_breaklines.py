@@ -49,7 +49,10 @@ def test_read_lines_errors(tmp_path):
     with pytest.raises(InterpError, match=r"line 4: the rows of polyline 1 are not together"):
         read_lines(tmp_path / "b.csv")
     (tmp_path / "c.csv").write_text("x,y,line\n0,0,1\n0,0,1\n")
-    with pytest.raises(InterpError, match="line 0, segment 0: vertices 0 and 1 are the same"):
+    with pytest.raises(
+        InterpError,
+        match=r"line 1, segment 1: vertices 1 and 2 are the same point \(counting from 1\)",
+    ):
         read_lines(tmp_path / "c.csv")
     with pytest.raises(InterpError, match="at least 2 vertices"):
         as_lines([[[0.0, 0.0]]])
@@ -125,9 +128,13 @@ def test_breaklines_are_mesh_edges_and_crossings_are_nodes():
 
 def test_breakline_errors_name_the_line():
     pts = np.array([[0.0, 0], [10, 0], [10, 10], [0, 10], [5, 5]])
-    with pytest.raises(InterpError, match=r"breakline 1, segment 1: vertex \[12.0, 5.0\] lies"):
+    with pytest.raises(InterpError, match=r"breakline 2, segment 2: vertex \[12.0, 5.0\] lies"):
         interp.triangulate(pts, breaklines=[[[1, 1], [2, 2]], [[1, 5], [8, 5], [12, 5]]])
-    with pytest.raises(InterpError, match=r"breakline 0, segment 0 and breakline 1, segment 0\)"):
+    with pytest.raises(
+        InterpError,
+        match=r"breakline 1, segment 1 \(\[1.0, 1.0\] to \[4.0, 4.0\]\) and breakline 2, "
+        r"segment 1 \(\[3.0, 3.0\] to \[6.0, 6.0\]\) overlap",
+    ):
         interp.triangulate(pts, breaklines=[[[1, 1], [4, 4]], [[3, 3], [6, 6]]])
     with pytest.raises(InterpError, match="breaklines apply to 2D"):
         interp.triangulate(np.random.default_rng(0).random((10, 3)), breaklines=[[[0, 0]] * 2])

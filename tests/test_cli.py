@@ -108,6 +108,10 @@ def test_profile_and_crossval(survey):
         (["info", "missing.csv"], "missing.csv"),
         (["grid", "s.csv", "--spacing", "1", "--bounds", "0,1", "-o", "g.npz"], "bounds"),
         (["grid", "s.csv", "--spacing", "1", "-o", "g.txt"], "cannot save a grid"),
+        (
+            ["grid", "s.csv", "--spacing", "1", "-o", "."],
+            "cannot write .: it is a folder; give a file name, such as out.tif",
+        ),
         (["info", "s.csv", "--field", "depth"], "available: z"),
         (["volume", "s.csv"], "LOWER surface or --level"),
         (["profile", "s.csv", "--line", "1,2,3", "--step", "1", "-o", "p.csv"], "--line"),

@@ -116,6 +116,26 @@ def test_crossval_writes_a_residual_file(square, tmp_path):
     np.testing.assert_allclose(table["residual"][inner], 0.0, atol=1e-9)
 
 
+def test_crossval_json_statistics_match_numpy_on_the_residual_file(tmp_path):
+    # a curved surface leaves nonzero residuals; reference: numpy's statistics of the
+    # residual column the same run writes
+    rng = np.random.default_rng(16)
+    xy = rng.random((60, 2)) * 20.0
+    write_points(tmp_path / "c.csv", xy, np.sin(xy[:, 0] / 3.0) + 0.02 * xy[:, 1] ** 2)
+    r = run("crossval", tmp_path / "c.csv", "-o", tmp_path / "res.csv", "--json")
+    assert r.returncode == 0, r.stderr
+    s = json.loads(r.stdout)["z"]
+    f = np.genfromtxt(tmp_path / "res.csv", delimiter=",", names=True)["residual"]
+    f = f[np.isfinite(f)]
+    assert s["count"] == f.size and "worst" not in s
+    # the file holds 17 significant digits, so the statistics agree to rounding
+    assert s["rms"] == pytest.approx(np.sqrt(np.mean(f**2)), rel=1e-12)
+    assert s["std"] == pytest.approx(np.std(f, ddof=1), rel=1e-12)
+    assert (s["min"], s["max"]) == pytest.approx((f.min(), f.max()), rel=1e-12)
+    for q in (50, 90, 95):
+        assert s[f"abs_p{q}"] == pytest.approx(np.percentile(np.abs(f), q), rel=1e-12)
+
+
 def test_sample_gives_the_sampled_column_its_own_name_and_checks_it(square, tmp_path):
     # check points on the plane z = 1 + 0.5 x - 0.25 y, their known values off by +0.3
     # and -0.4: residuals 0.3 and -0.4, RMS sqrt((0.09 + 0.16) / 2) (by hand)

@@ -41,6 +41,30 @@ def test_change_between_epochs(demo):
     assert abs(summary["change"]["net"] - expected) / expected < 0.02
 
 
+def test_bay_pile_volume_is_exact_with_breaklines(demo):
+    # the bay's pile is a frustum of a square pyramid on a flat slab (toe side a, crest
+    # side b, height h). Prismoidal formula V = h / 6 (A1 + 4 Am + A2), exact for prismoids
+    # (J. Uren and W. F. Price, Surveying for Engineers, the chapter on earthwork volumes;
+    # quoted from memory); the frustum formula V = h / 3 (A1 + A2 + sqrt(A1 A2)) of
+    # mensuration agrees. Its points lie on its plane faces and every edge is a breakline,
+    # so the P1 surface is the solid itself and its volume the closed form.
+    from interp.demo import DATA
+
+    _, stdout, summary = demo
+    pile = json.loads((DATA / "scenario.json").read_text())["bay"]["pile"]
+    a, b, h = pile["toe_side"], pile["crest_side"], pile["height"]
+    prismoidal = h / 6 * (a * a + 4 * ((a + b) / 2) ** 2 + b * b)
+    assert prismoidal == pytest.approx(h / 3 * (a * a + b * b + a * b), rel=1e-15)
+    bay = summary["bay"]
+    assert bay["closed_form"] == pytest.approx(prismoidal, rel=1e-15)
+    assert bay["with_breaklines"] == pytest.approx(prismoidal, rel=1e-9)
+    # without them the surface cuts across the toe, crest and hips and smears the wall's
+    # step over the slab; measured 2026-12-03: 341.811 m3, +2.03%
+    error = (bay["without_breaklines"] - prismoidal) / prismoidal
+    assert 0.01 < error < 0.1
+    assert f"without {bay['without_breaklines']:.3f} m3 ({100 * error:+.2f}%)" in stdout
+
+
 def test_bracket_mean_temperature_is_exact(demo):
     # the temperature is quadratic, so the P2 mesh carries it exactly and its mean is the
     # closed-form mean written by scripts/make_demo_data.py
@@ -70,6 +94,7 @@ def test_outputs_and_pictures(demo):
         "section",
         "residuals_2026_06",
         "bracket_temperature",
+        "north_bay",
     ):
         png = out / f"{name}.png"
         img = imread(png)

@@ -227,7 +227,7 @@ def test_bad_input():
         fit(pts, np.zeros(10), order=3)
     with pytest.raises(InterpError, match="10 points.*9 rows"):
         fit(pts, np.zeros(9))
-    with pytest.raises(InterpError, match=r"infinite at point index 2 \(counted from 0\)"):
+    with pytest.raises(InterpError, match=r"infinite at point 3 \(counting from 1\)"):
         fit(pts, np.where(np.arange(10) == 2, np.inf, 0.0))
     assert isinstance(fit(pts, np.zeros(10)), Field)
 

@@ -223,7 +223,7 @@ def test_read_points_and_load_take_las(cloud):
     points, values = interp.read_points(d / "site.laz")
     assert np.array_equal(points, decimals(las)[:, :2])
     assert list(values) == ["z", "moisture", "wear"]
-    ground = interp.load(d / "site.las", classes=[2], every=2, field="z")["z"]
+    ground = interp.load(d / "site.las", classes=[2], every=2, name="z")["z"]
     keep = np.flatnonzero(np.asarray(las.classification) == 2)[::2]
     # a P1 fit interpolates its data points (common practice)
     node = decimals(las)[:, :2][keep[:5]]
@@ -406,6 +406,21 @@ def test_geojson_polygon_with_altitudes_and_json_suffix(tmp_path):
         ({"type": "Polygon", "coordinates": [[0, 0, 1, 1]]}, "list of positions"),
         ({"type": "Polygon", "coordinates": []}, "no rings"),
         ({"coordinates": []}, "not a GeoJSON object"),
+        # features and the polygons of a MultiPolygon count from 1, like every number
+        (
+            {
+                "type": "FeatureCollection",
+                "features": [
+                    {"type": "Feature", "geometry": None},
+                    {"type": "Feature", "geometry": {"type": "LineString", "coordinates": FRAME}},
+                ],
+            },
+            "feature 2 is a LineString",
+        ),
+        (
+            {"type": "MultiPolygon", "coordinates": [[FRAME[:-1]]]},
+            r"polygon 1 exterior: the ring is not closed",
+        ),
     ],
 )
 def test_geojson_errors(tmp_path, obj, message):

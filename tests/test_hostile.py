@@ -151,7 +151,8 @@ CASES = [
         "self-intersecting boundary",
         ["grid", "%s.csv", "--spacing", "1", "--boundary", "%bowtie.csv", "-o", "g.npz"],
         1,
-        ["bowtie.csv", "not simple", "edge 0", "edge 2"],
+        # file lines of the crossing edges' ends: rows 1-2 and 3-4 of the file, lines 2-5
+        ["bowtie.csv", "not simple", "the edge from line 2 to line 3 meets the edge from line 4"],
     ),
     (
         "self-intersecting region",
@@ -169,7 +170,7 @@ CASES = [
         "hole outside",
         ["grid", "%s.csv", "--spacing", "1", "--boundary", "%hole_outside.csv", "-o", "g.npz"],
         1,
-        ["hole_outside.csv", "hole 0 lies outside the exterior"],
+        ["hole_outside.csv", "hole 1 lies outside the exterior"],
     ),
     (
         "hole outside region",
@@ -607,7 +608,9 @@ def test_api_load_refuses(inputs, name, fragments):
 
 
 def test_api_polygons(inputs):
-    refused(["not simple"], interp.Polygon, interp.read_polygon(inputs / "bowtie.csv")[0])
+    refused(["line 2 to line 3", "line 4 to line 5"], interp.read_polygon, inputs / "bowtie.csv")
+    bowtie = [[5.0, 5.0], [45.0, 25.0], [45.0, 5.0], [5.0, 25.0]]
+    refused(["exterior edge 1 (vertex 1 to 2) meets exterior edge 3"], interp.Polygon, bowtie)
     refused(["at least 3 distinct vertices"], interp.read_polygon, inputs / "two_vertices.csv")
     rings = interp.read_polygon(inputs / "hole_outside.csv")
     refused(["outside the exterior"], interp.Polygon, rings[0], holes=rings[1:])
@@ -719,3 +722,12 @@ def test_fuzz_edits_of_a_valid_file(tmp_path_factory, edits):
 @given(tokens=st.lists(st.sampled_from(TOKENS), max_size=40))
 def test_fuzz_tokens_after_a_header(tmp_path_factory, tokens):
     _read_both(tmp_path_factory.getbasetemp(), b"x,y,ring\n" + b"".join(tokens))
+
+
+def test_a_body_of_byte_order_marks_is_no_data(tmp_path):
+    # found by the fuzz test above: a stray UTF-8 byte-order mark as the only row
+    path = tmp_path / "bom.csv"
+    path.write_bytes(b"x,y,ring\n\xef\xbb\xbf\n")
+    for reader in (interp.read_points, interp.read_polygon):
+        with pytest.raises(InterpError, match="bom.csv: no data rows below the header"):
+            reader(path)

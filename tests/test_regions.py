@@ -13,6 +13,7 @@ from interp import (
     Intersection,
     LevelSet,
     Polygon,
+    read_polygon,
     triangulate,
 )
 
@@ -30,7 +31,7 @@ def test_area_of_concave_polygon_with_holes_matches_shapely():
     poly = Polygon(ext, holes)
     # reference: shapely's polygon area
     assert poly.area == pytest.approx(shapely.Polygon(ext, holes).area, rel=1e-13)
-    assert poly.measure == poly.area
+    assert poly.measure() == poly.area
 
 
 def test_contains_matches_shapely_away_from_the_boundary():
@@ -46,20 +47,46 @@ def test_contains_matches_shapely_away_from_the_boundary():
 
 
 def test_self_intersecting_polygon_names_the_first_crossing_edges():
-    with pytest.raises(InterpError, match=r"exterior edge 0 .*meets exterior edge 2"):
+    with pytest.raises(
+        InterpError,
+        match=r"exterior edge 1 \(vertex 1 to 2\) meets exterior edge 3 \(vertex 3 to 4\)",
+    ):
         Polygon([[0, 0], [2, 2], [2, 0], [0, 2]])
 
 
+def test_polygon_file_crossings_name_the_file_lines(tmp_path):
+    # ring 0 is the square (0,0) (4,0) (4,4) (0,4) closed on line 6; line 2 repeats as the
+    # closing vertex, so the ring's vertices are lines 3, 4, 5, 6.  The hole's first edge,
+    # lines 7 to 8 ((1,1) to (5,2)), crosses the square's side x = 4, lines 3 to 4 (by hand)
+    path = tmp_path / "site.csv"
+    path.write_text("x,y,ring\n0,0,0\n4,0,0\n4,4,0\n0,4,0\n0,0,0\n1,1,1\n5,2,1\n1,3,1\n")
+    with pytest.raises(InterpError) as info:
+        read_polygon(path)
+    assert str(info.value).startswith(
+        f"{path}: the polygon is not simple: the ring 0 edge from line 3 to line 4 meets the "
+        "ring 1 edge from line 7 to line 8;"
+    )
+    # the same rings given as arrays: vertices and edges counted from 1 in each ring
+    rings = [np.array([[4.0, 0], [4, 4], [0, 4], [0, 0]]), np.array([[1.0, 1], [5, 2], [1, 3]])]
+    with pytest.raises(
+        InterpError, match=r"exterior edge 1 \(vertex 1 to 2\) meets hole 1 edge 1 "
+    ):
+        Polygon(rings[0], holes=rings[1:])
+
+
 def test_hole_crossing_the_exterior_is_refused():
-    with pytest.raises(InterpError, match="exterior edge 1 .*meets hole 0 edge"):
+    with pytest.raises(
+        InterpError,
+        match=r"exterior edge 2 \(vertex 2 to 3\) meets hole 1 edge 1 \(vertex 1 to 2\)",
+    ):
         Polygon([[0, 0], [2, 0], [2, 2], [0, 2]], holes=[[[1, 1], [3, 1], [3, 1.5]]])
 
 
 def test_hole_outside_or_nested_is_refused():
     sq = [[0, 0], [10, 0], [10, 10], [0, 10]]
-    with pytest.raises(InterpError, match="hole 0 lies outside"):
+    with pytest.raises(InterpError, match="hole 1 lies outside"):
         Polygon(sq, holes=[[[11, 1], [12, 1], [12, 2]]])
-    with pytest.raises(InterpError, match="hole 1 lies inside hole 0"):
+    with pytest.raises(InterpError, match="hole 2 lies inside hole 1"):
         Polygon(sq, holes=[[[1, 1], [9, 1], [9, 9], [1, 9]], [[4, 4], [5, 4], [5, 5]]])
 
 
@@ -81,7 +108,7 @@ def test_bad_polygons_are_refused(vertices, message):
 
 def test_box_measure_contains_and_emptiness():
     box = Box([0, -1, 2], [1, 1, 5])
-    assert box.measure == 6.0
+    assert box.measure() == 6.0
     assert box.contains([[0, 0, 2], [1, 1, 5], [0.5, 0, 5.1]]).tolist() == [True, True, False]
     with pytest.raises(InterpError, match=r"lo\[1\] = 2 is not below hi\[1\] = 1"):
         Box([0, 2], [1, 1])
@@ -94,7 +121,7 @@ def test_box_measure_contains_and_emptiness():
 def test_half_space_contains_and_validation():
     h = HalfSpace([1.0, 2.0], 3.0)
     assert h.contains([[1, 1], [3, 0.5]]).tolist() == [True, False]
-    assert h.measure == np.inf
+    assert h.measure() == np.inf
     with pytest.raises(InterpError, match="zero"):
         HalfSpace([0.0, 0.0], 1.0)
     with pytest.raises(InterpError, match="finite"):
@@ -117,7 +144,7 @@ def test_level_set_contains_and_validation():
     with pytest.raises(InterpError, match="Field"):
         LevelSet(mesh, 0.0)
     with pytest.raises(InterpError, match="measure"):
-        _ = LevelSet(depth, 0.5).measure
+        _ = LevelSet(depth, 0.5).measure()
 
 
 def test_intersection_flattens_and_checks():
@@ -134,7 +161,7 @@ def test_intersection_flattens_and_checks():
     with pytest.raises(InterpError, match="regions"):
         Intersection(a, "box")
     with pytest.raises(InterpError, match="measure"):
-        _ = both.measure
+        _ = both.measure()
 
 
 def test_contains_checks_the_points():

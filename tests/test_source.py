@@ -35,7 +35,7 @@ def test_point_file_fields_reproduce_a_plane(survey):
         assert list(fields) == ["z", "t"]
         np.testing.assert_allclose(fields["z"](q), plane(q), rtol=1e-12)
         np.testing.assert_allclose(fields["t"](q), q[:, 0], rtol=1e-12, atol=1e-12)
-    assert list(load(survey, field="t")) == ["t"]
+    assert list(load(survey, name="t")) == ["t"]
 
 
 def test_mesh_file_point_data_are_the_fields(tmp_path):
@@ -68,7 +68,7 @@ def test_describe_counts_measure_and_ranges():
 
 
 def test_sample_file_keeps_rows_and_appends_values(survey, tmp_path):
-    fields = load(survey, field="z")
+    fields = load(survey, name="z")
     query = tmp_path / "q.csv"
     query.write_text("id,x,y\nA,1,2\nB,20,20\nC,9.5,0.25\n")
     report = sample_file(fields, query, tmp_path / "out.csv", chunk_rows=2)
@@ -85,5 +85,5 @@ def test_sample_file_with_no_rows_is_an_error(survey, tmp_path):
     query = tmp_path / "empty.csv"
     query.write_text("x,y\n")
     with pytest.raises(InterpError, match="no data rows"):
-        sample_file(load(survey, field="z"), query, tmp_path / "out.csv")
+        sample_file(load(survey, name="z"), query, tmp_path / "out.csv")
     assert not (tmp_path / "out.csv").exists()

@@ -193,20 +193,48 @@ def test_bad_input(rng):
 
 
 def test_residual_summary():
-    # statistics worked by hand: residuals 1, -3, 2 -> RMS sqrt(14 / 3), mean 0, max 3
+    # statistics worked by hand: residuals 1, -3, 2 -> RMS sqrt(14 / 3), mean 0, max 3,
+    # standard deviation sqrt((1 + 9 + 4) / 2) = sqrt(7) about the mean 0 (n - 1 = 2),
+    # |r| sorted 1, 2, 3: median 2, 90th percentile 2 + 0.8 * (3 - 2) = 2.8 (linear between
+    # order statistics: position 0.9 * (3 - 1) = 1.8), 95th 2.9
     pts = np.array([[0.0, 0], [1, 0], [2, 0], [3, 0]])
-    s = residual_summary(pts, [1.0, np.nan, -3.0, 2.0], worst=2)
+    s = residual_summary(pts, [1.0, np.nan, -3.0, 2.0])
     assert s["count"] == 3 and s["outside"] == 1
     assert s["rms"] == pytest.approx(np.sqrt(14 / 3))
     assert s["mean"] == pytest.approx(0.0)
-    assert s["max_abs"] == 3.0
-    assert s["worst"] == [
-        {"row": 2, "point": [2.0, 0.0], "residual": -3.0},
-        {"row": 3, "point": [3.0, 0.0], "residual": 2.0},
-    ]
+    assert s["std"] == pytest.approx(np.sqrt(7.0))
+    assert s["min"] == -3.0 and s["max"] == 2.0 and s["max_abs"] == 3.0
+    assert s["abs_p50"] == 2.0
+    assert s["abs_p90"] == pytest.approx(2.8) and s["abs_p95"] == pytest.approx(2.9)
+    assert "worst" not in s
     empty = residual_summary(pts, np.full(4, np.nan))
-    assert empty["count"] == 0 and np.isnan(empty["rms"]) and empty["worst"] == []
+    assert empty["count"] == 0 and np.isnan(empty["rms"]) and np.isnan(empty["abs_p95"])
+    one = residual_summary(pts, [np.nan, 0.5, np.nan, np.nan])
+    assert one["rms"] == 0.5 and np.isnan(one["std"])
     with pytest.raises(InterpError, match="one component at a time"):
         residual_summary(pts, np.zeros((4, 2)))
-    with pytest.raises(InterpError, match="worst"):
-        residual_summary(pts, np.zeros(4), worst=-1)
+
+
+def test_residual_summary_matches_numpy(rng):
+    # reference: numpy's mean, std (ddof=1), min, max and percentile of the finite residuals
+    r = rng.normal(0.02, 0.1, 500)
+    r[rng.random(500) < 0.1] = np.nan
+    s = residual_summary(rng.random((500, 2)), r)
+    f = r[np.isfinite(r)]
+    assert s["count"] == f.size and s["outside"] == 500 - f.size
+    assert s["mean"] == pytest.approx(np.mean(f), rel=1e-12)
+    assert s["rms"] == pytest.approx(np.sqrt(np.mean(f**2)), rel=1e-12)
+    assert s["std"] == pytest.approx(np.std(f, ddof=1), rel=1e-12)
+    assert (s["min"], s["max"]) == (f.min(), f.max())
+    for q in (50, 90, 95):
+        assert s[f"abs_p{q}"] == pytest.approx(np.percentile(np.abs(f), q), rel=1e-12)
+    # the RMS, mean and standard deviation are tied by rms^2 = mean^2 + std^2 (n - 1) / n
+    n = f.size
+    assert s["rms"] ** 2 == pytest.approx(s["mean"] ** 2 + s["std"] ** 2 * (n - 1) / n, rel=1e-12)
+
+
+def test_residual_summary_worst_is_deprecated():
+    pts = np.array([[0.0, 0], [1, 0]])
+    with pytest.warns(DeprecationWarning, match="write_residuals"):
+        s = residual_summary(pts, [1.0, -2.0], worst=5)
+    assert s["max_abs"] == 2.0 and "worst" not in s

@@ -229,7 +229,7 @@ def test_grid_2d_is_an_image_surface_with_nan_left_out():
     assert p.scalar_bar.GetLookupTable().GetRange() == pytest.approx((0.0, 4.0))
     left, right = red_minus_blue(image_of(p))
     assert right - left > 0.2
-    p = plot(Grid((x, y), {"z": z, "w": -z}), field="w", warp=1.0, window_size=SIZE)
+    p = plot(Grid((x, y), {"z": z, "w": -z}), name="w", warp=1.0, window_size=SIZE)
     pts = np.asarray(p.actors["surface"].mapper.dataset.points)
     ok = np.isfinite(pts[:, 2])
     assert pts[ok, 2] == pytest.approx(-pts[ok, 0])
@@ -270,11 +270,11 @@ def test_mesh_file_is_read_and_its_field_chosen(tmp_path):
             point_data={"a": mesh.points[:, 0], "b": 5 + mesh.points[:, 1]},
         ),
     )
-    p = plot(path, field="b", window_size=SIZE)
+    p = plot(path, name="b", window_size=SIZE)
     assert p.scalar_bar.GetLookupTable().GetRange() == pytest.approx((5.0, 6.0))
     p.close()
     with pytest.raises(interp.InterpError, match=r"no field named 'c'; available: a, b"):
-        plot(path, field="c")
+        plot(path, name="c")
 
 
 def test_bad_input_gives_clear_errors(tmp_path):
@@ -288,9 +288,9 @@ def test_bad_input_gives_clear_errors(tmp_path):
     with pytest.raises(interp.InterpError, match=r"shape \(3, 2\) but the axes give \(3, 3\)"):
         plot(Grid((x, x), {"z": np.zeros((3, 2))}))
     with pytest.raises(interp.InterpError, match=r"no field named 'q'; available: z, w"):
-        plot(Grid((x, x), {"z": np.zeros((3, 3)), "w": np.ones((3, 3))}), field="q")
+        plot(Grid((x, x), {"z": np.zeros((3, 3)), "w": np.ones((3, 3))}), name="q")
     with pytest.raises(interp.InterpError, match="no field named 'z'; available: none"):
-        plot(square_mesh(1), field="z")
+        plot(square_mesh(1), name="z")
     with pytest.raises(interp.InterpError, match="warp needs a field"):
         plot(square_mesh(1), warp=1.0)
     cube = interp.Field(cube_mesh(1), np.zeros(8))
@@ -515,3 +515,110 @@ def test_residual_map_shows_survey_coordinates_with_their_offset(rng):
     assert ax.get_xlabel() == "x - 512000" and ax.get_ylabel() == "y - 4180000"
     offsets = np.asarray(ax.collections[0].get_offsets())
     assert offsets == pytest.approx(pts - [512000.0, 4180000.0])
+
+
+#: breaklines cross the ramp's cell edges and run along one of them (x = 0.8)
+LINES = [np.array([[0.2, 0.3], [0.8, 0.3], [0.8, 0.8]]), np.array([[0.1, 0.9, 1.0], [0.5, 0.5, 0]])]
+
+
+def magenta(img: np.ndarray) -> np.ndarray:
+    """Pixels of the breakline colour #ff00ff: red and blue high, green low (0..1 scale)."""
+    return (img[..., 0] > 0.8) & (img[..., 2] > 0.8) & (img[..., 1] < 0.35)
+
+
+def along(lines: list[np.ndarray], step: float = 0.002) -> np.ndarray:
+    """Points every ``step`` along polylines (x, y)."""
+    out = []
+    for line in lines:
+        for a, b in zip(line[:-1, :2], line[1:, :2], strict=True):
+            t = np.linspace(0.0, 1.0, int(np.ceil(np.linalg.norm(b - a) / step)) + 1)
+            out.append(a + t[:, None] * (b - a))
+    return np.vstack(out)
+
+
+def pixels_of(plotter, xyz: np.ndarray) -> np.ndarray:
+    """(row, column) in the screenshot of world points, by the renderer's own projection."""
+    renderer, height = plotter.renderer, plotter.window_size[1]
+    out = []
+    for p in xyz:
+        renderer.SetWorldPoint(*p, 1.0)
+        renderer.WorldToDisplay()
+        x, y, _ = renderer.GetDisplayPoint()
+        out.append((height - 1 - y, x))  # display y runs up from the bottom row
+    return np.array(out)
+
+
+@pytest.mark.parametrize("warp", [None, 0.5])
+def test_breaklines_are_drawn_in_their_own_colour_along_their_lines(warp):
+    from scipy.spatial import cKDTree
+
+    f = ramp(5)
+    p = plot(f, edges=True, breaklines=LINES, warp=warp, window_size=SIZE)
+    img = np.asarray(p.screenshot(return_img=True), dtype=np.float64)[..., :3] / 255.0
+    track = along(LINES)
+    # drawn flat at z = 0, or draped on the warped surface z = warp * x (f = x is exact)
+    z = np.zeros(len(track)) if warp is None else warp * track[:, 0]
+    expected = pixels_of(p, np.column_stack([track, z]))
+    legend = p.legend.GetPosition()
+    p.close()
+    rows, cols = np.nonzero(magenta(img))
+    in_legend = (cols >= legend[0] * SIZE[0]) & (rows >= (1 - legend[1] - 0.06) * SIZE[1])
+    assert in_legend.sum() > 10  # the legend's key
+    found = np.column_stack([rows, cols])[~in_legend]
+    # every magenta pixel of the picture lies on a line (3 px wide), and the lines are
+    # magenta along nearly all their length (the dark halo and the cell edges do not hide it)
+    gap, _ = cKDTree(expected).query(found)
+    assert gap.max() < 3.0
+    near, _ = cKDTree(found).query(expected)
+    assert np.mean(near < 1.5) > 0.97
+    plain = np.asarray(plot(f, edges=True, warp=warp, window_size=SIZE).screenshot(return_img=True))
+    assert not magenta(plain[..., :3] / 255.0).any()
+
+
+def test_breaklines_stand_apart_from_edges_region_and_colour_maps():
+    f = ramp(4)
+    p = plot(f, edges=True, region=LINES[0][:3], breaklines=LINES, window_size=SIZE)
+    line = p.actors["breaklines"].prop
+    halo = p.actors["breakline-halo"].prop
+    assert halo.line_width > line.line_width > p.actors["edges"].prop.line_width
+    colours = {p.actors[name].prop.color.hex_rgb for name in ("breaklines", "edges", "region")}
+    assert len(colours) == 3
+    p.close()
+    # WCAG 2.1 asks 3:1 for graphical objects: the magenta line on the dark ends of both
+    # colour maps, its dark halo on their light ends (matplotlib's colour map data)
+    for cmap in (view.CMAP, view.DIVERGING_CMAP):
+        samples = matplotlib.colormaps[cmap](np.linspace(0.0, 1.0, 11))
+        dark = min(samples, key=relative_luminance)
+        light = max(samples, key=relative_luminance)
+        assert contrast(line.color.float_rgb, dark) > 3
+        assert contrast(halo.color.float_rgb, light) > 3
+    p = plot(f, breaklines=[], window_size=SIZE)  # no lines: nothing drawn, no legend
+    assert not {"breaklines", "breakline-halo", "legend"} & set(p.actors)
+    p.close()
+    with pytest.raises(interp.InterpError, match="breaklines are drawn on 2D pictures only"):
+        plot(interp.Field(cube_mesh(1), np.zeros(8)), breaklines=LINES, window_size=SIZE)
+    with pytest.raises(interp.InterpError, match="line 0 has shape"):
+        plot(f, breaklines=[[[0.0, 0.0]]], window_size=SIZE)
+
+
+def test_cli_view_draws_the_breaklines_file(tmp_path):
+    import shutil
+
+    exe = shutil.which("interp") or pytest.skip("the interp command is not installed")
+    g = np.linspace(0.0, 10.0, 6)
+    xy = np.stack(np.meshgrid(g, g), axis=-1).reshape(-1, 2)
+    interp.io.write_table(tmp_path / "pts.csv", ["x", "y", "z"], np.column_stack([xy, xy[:, 0]]))
+    rows = "".join(f"{x},{y},{i}\n" for i, ln in enumerate(LINES) for x, y in ln[:, :2] * 10)
+    (tmp_path / "lines.csv").write_text("x,y,line\n" + rows)
+    for extra, drawn in ((["--breaklines", "lines.csv"], True), ([], False)):
+        r = subprocess.run(
+            [exe, "view", "pts.csv", "--edges", *extra, "--screenshot", "v.png"],
+            capture_output=True,
+            text=True,
+            cwd=tmp_path,
+            timeout=300,
+        )
+        assert r.returncode == 0, r.stderr
+        assert r.stdout.strip() == "wrote v.png"
+        # the 1200 x 900 picture: 10 m lines 3 px wide give thousands of magenta pixels
+        assert (magenta(read_png(tmp_path / "v.png")).sum() > 1000) == drawn

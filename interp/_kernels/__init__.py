@@ -25,8 +25,10 @@ first compile of a process, :func:`announce` prints one line on stderr
 (:data:`NOTICE`) so that a first run does not look hung; by default only
 when stderr is a terminal (an interactive session, the command line), never
 when it is piped or redirected, and :func:`set_announce` switches it on or
-off (the command line turns it off with ``--quiet``).  Loading a kernel from
-the cache compiles nothing and prints nothing.
+off (the command line turns it off with ``--quiet``).  The line goes through
+:func:`interp._progress.write`, so it lands above a progress bar that is drawn,
+not inside it.  Loading a kernel from the cache compiles nothing and prints
+nothing.
 """
 
 from __future__ import annotations
@@ -40,6 +42,8 @@ from pathlib import Path
 
 from numba.core import event
 from numba.core.caching import CacheImpl, InTreeCacheLocator
+
+from interp._progress import write
 
 #: the folder of the kernels.
 FOLDER = Path(__file__).resolve().parent
@@ -128,7 +132,7 @@ class _Announcer(event.Listener):
             self.done = True
             shown = self.enabled if self.enabled is not None else sys.stderr.isatty()
             if shown:
-                print(NOTICE, file=sys.stderr, flush=True)
+                write(NOTICE)  # above a progress bar, not inside it
 
     def on_end(self, ev: event.Event) -> None:
         pass

@@ -95,36 +95,48 @@ def _first_triangle(x, y, tri, nbr, a, b, c, inf):  # pragma: no cover
 
 
 @numba.njit(cache=True, nogil=True)
-def delaunay(x, y):  # pragma: no cover
-    """Delaunay triangulation of distinct points, inserted in the given order.
+def first_triangle(x, y):  # pragma: no cover
+    """The state of an insertion: the triangle of points 0, 1 and the first point
+    off their line, and room for the triangulation of all the points.
 
-    Returns ``(tri, nbr, ntri, same, status)``: the first ``ntri`` rows of
-    ``tri``/``nbr`` are the triangles, ghosts included (``tri[t, 2] == n``);
-    ``same[i]`` is the vertex equal to point i when i was not inserted for
-    that reason, else -1.
+    Returns ``(tri, nbr, mark, start_of, same, third)``; ``third`` is -1 when
+    every point is on one line (then nothing is set up).  Points 2.. are then
+    inserted in order by :func:`insert`, in one call or in consecutive slices.
     """
     n = x.shape[0]
-    inf = n
     cap = 2 * n + 8
     tri = np.empty((cap, 3), dtype=np.int32)
     nbr = np.empty((cap, 3), dtype=np.int32)
     mark = np.zeros(cap, dtype=np.int32)
     start_of = np.empty(n + 1, dtype=np.int32)
     same = np.full(n, -1, dtype=np.int32)
-    cav = np.empty(64, dtype=np.int32)
-    bd = np.empty((64, 4), dtype=np.int32)  # boundary edge a, b, outside triangle, its slot
-    end_of = np.empty(64, dtype=np.int32)
     third = -1
     for k in range(2, n):
         if orient2d(x[0], y[0], x[1], y[1], x[k], y[k]) != 0.0:
             third = k
             break
-    if third < 0:
-        return tri, nbr, 0, same, COLLINEAR
-    _first_triangle(x, y, tri, nbr, 0, 1, third, inf)
-    ntri = 4
-    last = 0
-    for i in range(2, n):
+    if third >= 0:
+        _first_triangle(x, y, tri, nbr, 0, 1, third, n)
+    return tri, nbr, mark, start_of, same, third
+
+
+@numba.njit(cache=True, nogil=True)
+def insert(x, y, tri, nbr, mark, start_of, same, third, ntri, last, lo, hi):  # pragma: no cover
+    """Insert points ``lo..hi-1`` (point ``third`` is already in) into the state
+    of :func:`first_triangle`; returns ``(ntri, last)`` to pass to the next slice
+    (4 and 0 for the first).
+
+    The first ``ntri`` rows of ``tri``/``nbr`` are the triangles, ghosts
+    included (``tri[t, 2] == n``); ``same[i]`` is set to the vertex equal to
+    point i when i was not inserted for that reason.  The result does not
+    depend on how the points are cut into slices.
+    """
+    n = x.shape[0]
+    inf = n
+    cav = np.empty(64, dtype=np.int32)
+    bd = np.empty((64, 4), dtype=np.int32)  # boundary edge a, b, outside triangle, its slot
+    end_of = np.empty(64, dtype=np.int32)
+    for i in range(lo, hi):
         if i == third:
             continue
         px = x[i]
@@ -216,7 +228,7 @@ def delaunay(x, y):  # pragma: no cover
             s2 = cav[q2]
             nbr[s, bd[q, 1]] = s2  # across b-i, opposite a
             nbr[s2, bd[q2, 2]] = s  # across i-b of the next, opposite its end
-    return tri, nbr, ntri, same, OK
+    return ntri, last
 
 
 @numba.njit(cache=True, nogil=True)

@@ -10,12 +10,12 @@ from interp._kernels.geometry import sort_small
 
 
 @numba.njit(cache=True, nogil=True)
-def _recover(x, v, ptr, idx, over_node, over_ptr, over_idx, grad):  # pragma: no cover
-    """Gradient at every node of ``x`` into ``grad`` (n, d, c)."""
-    n = x.shape[0]
-    mark = np.full(n, -1, dtype=np.int64)
-    members = np.empty(n, dtype=np.int64)
-    for i in range(n):
+def _recover(
+    x, v, ptr, idx, over_node, over_ptr, over_idx, grad, lo, hi, mark, members
+):  # pragma: no cover
+    """Gradient at nodes ``lo..hi-1`` of ``x`` into ``grad`` (n, d, c); ``mark`` (n,)
+    all -1 at first and ``members`` (n,) are scratch, shared by consecutive slices."""
+    for i in range(lo, hi):
         _node_gradient(i, x, v, ptr, idx, over_node, over_ptr, over_idx, mark, i, members, grad[i])
 
 

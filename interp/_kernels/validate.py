@@ -12,23 +12,27 @@ from interp._kernels.geometry import inverse_into, sort_small
 
 @numba.njit(cache=True, nogil=True)
 def leave_one_out(
-    x, v, cells, kept, vc_ptr, vc_idx, ptr, idx, max_edge, tri, bary, grad
+    x, v, cells, kept, vc_ptr, vc_idx, ptr, idx, max_edge, tri, bary, grad, lo, hi, scratch_n, stamp
 ):  # pragma: no cover
-    """For every vertex p: the cell of Delaunay(link of p) holding p, and (P2) corner gradients.
+    """For every vertex p in lo..hi-1: the cell of Delaunay(link of p) holding p, and (P2)
+    corner gradients.
 
     Writes ``tri[p]`` (vertex ids, left -1 when p is outside its link's hull
     or the cell is masked) and ``bary[p]``; when ``grad`` is an array (P2),
     the recovered gradients at the corners of that cell with p removed.  With
     ``grad=None`` (P1) numba prunes the gradient branch at compile time, so
     the P1 specialisation compiles none of the gradient kernels.
+
+    ``scratch_n`` (4, n) int64 (row 0 all -1, row 1 zeros) and ``stamp`` (0 at
+    first) carry the state from one slice of vertices to the next; returns the
+    ``stamp`` for the next slice.  Every vertex is done alike whatever the slices.
     """
     n, d = x.shape
     r = d + 1
-    mark = np.full(n, -1, dtype=np.int64)
-    local = np.zeros(n, dtype=np.int64)
-    link = np.empty(n, dtype=np.int64)
-    members = np.empty(n, dtype=np.int64)
-    stamp = 0
+    mark = scratch_n[0]
+    local = scratch_n[1]
+    link = scratch_n[2]
+    members = scratch_n[3]
     combo = np.empty(r, dtype=np.int64)
     lam = np.empty(r)
     scratch = np.empty(r)
@@ -37,7 +41,7 @@ def leave_one_out(
     face = np.empty(d, dtype=np.int64)
     verts = np.empty((r, d))
     inv = np.empty((d, d))
-    for p in range(n):
+    for p in range(lo, hi):
         stamp += 1
         mark[p] = stamp
         k = 0
@@ -98,6 +102,7 @@ def leave_one_out(
                 members,
                 grad[p],
             )
+    return stamp
 
 
 @numba.njit(cache=True, nogil=True)

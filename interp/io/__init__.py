@@ -9,7 +9,7 @@
 - :mod:`interp.io._grids`: grid files by suffix (:data:`GRID_WRITERS`,
   :data:`GRID_READERS`: ``.npz``, ``.csv``, ``.vti``, ``.zarr``; ``.tif``/``.tiff``
   from :mod:`interp.io._geotiff` and ``.nc`` from :mod:`interp.io._xarray`,
-  registered here);
+  registered here, writers and readers alike);
 - :mod:`interp.io._las`: LAS/LAZ point clouds (:func:`read_las`,
   :func:`iter_las_chunks`, :func:`las_crs`);
 - :mod:`interp.io._geojson`: GeoJSON polygons, read by :func:`read_polygon`;
@@ -25,7 +25,7 @@ from pathlib import Path
 import numpy as np
 
 from interp.io._atomic import atomic_path, move_into_place
-from interp.io._geotiff import write_geotiff
+from interp.io._geotiff import read_geotiff, write_geotiff
 from interp.io._grids import (
     GRID_READERS,
     GRID_WRITERS,
@@ -50,7 +50,7 @@ from interp.io._meshes import read, write
 from interp.io._polygons import read_polygon
 from interp.io._tables import PointChunk, iter_point_chunks, read_points, read_table
 from interp.io._writer import TableWriter, write_table
-from interp.io._xarray import grid_to_xarray, write_netcdf
+from interp.io._xarray import crs_units, grid_to_xarray, read_netcdf, write_netcdf
 
 GRID_WRITERS.update(
     {
@@ -59,6 +59,7 @@ GRID_WRITERS.update(
         ".nc": lambda grid, path: write_netcdf(path, grid),
     }
 )
+GRID_READERS.update({".tif": read_geotiff, ".tiff": read_geotiff, ".nc": read_netcdf})
 
 #: readers of scattered-point files by suffix: ``reader(path, coords=...) -> (points, values)``;
 #: the LAS/LAZ reader also takes ``classes``, ``every`` and ``lowest_per_cell``.
@@ -92,6 +93,7 @@ __all__ = [
     "TableWriter",
     "atomic_path",
     "component_names",
+    "crs_units",
     "field_columns",
     "grid_to_xarray",
     "is_las_file",
@@ -103,7 +105,9 @@ __all__ = [
     "read",
     "read_grid",
     "read_las",
+    "read_geotiff",
     "read_las_points",
+    "read_netcdf",
     "read_points",
     "read_polygon",
     "read_table",

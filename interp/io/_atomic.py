@@ -20,6 +20,21 @@ from pathlib import Path
 from interp.errors import InterpError
 
 
+def refuse_folder(path: Path, suffix: str = ".csv") -> None:
+    """Refuse an output path that is an existing folder, suggesting a file in it.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> refuse_folder(pathlib.Path(tempfile.mkdtemp()) / "new.csv")  # not there yet: fine
+    """
+    if path.is_dir():
+        raise InterpError(
+            f"cannot write {path}: it is a folder; give a file name, such as {path / 'out'}"
+            f"{path.suffix or suffix}"
+        )
+
+
 @contextmanager
 def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
     """Yield a temporary path beside ``path`` that replaces it when the block succeeds.
@@ -40,11 +55,7 @@ def atomic_path(path: str | os.PathLike) -> Iterator[Path]:
     ('done', ['note.txt'])
     """
     path = Path(path)
-    if path.is_dir():
-        raise InterpError(
-            f"cannot write {path}: it is a folder; give a file name, such as {path / 'out'}"
-            f"{path.suffix or '.csv'}"
-        )
+    refuse_folder(path)
     tmp = path.with_name(f".{path.stem}.{secrets.token_hex(6)}.tmp{path.suffix}")
     # one block from the file's creation on: Ctrl-C or SIGTERM the moment after it still cleans up
     try:

@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from interp.errors import InterpError
-from interp.polygon import as_ring
+from interp.polygon import as_ring, ring_names
 
 #: file suffixes read as GeoJSON.
 GEOJSON_SUFFIXES = (".geojson", ".json")
@@ -44,7 +44,9 @@ def _polygons(obj: object, where: str) -> list[tuple[str, list]]:
         features = obj.get("features")
         if not isinstance(features, list):
             raise InterpError(f"{where}: a FeatureCollection needs a 'features' list")
-        return [p for k, f in enumerate(features) for p in _polygons(f, f"{where} feature {k}")]
+        return [
+            p for k, f in enumerate(features, start=1) for p in _polygons(f, f"{where} feature {k}")
+        ]
     if kind == "Feature":
         if obj.get("geometry") is None:
             return []
@@ -59,7 +61,7 @@ def _polygons(obj: object, where: str) -> list[tuple[str, list]]:
         raise InterpError(f"{where}: the {kind} has no 'coordinates' list")
     if kind == "Polygon":
         return [(where, coordinates)]
-    return [(f"{where} polygon {k}", c) for k, c in enumerate(coordinates)]
+    return [(f"{where} polygon {k}", c) for k, c in enumerate(coordinates, start=1)]
 
 
 def _ring(positions: object, name: str) -> np.ndarray:
@@ -134,5 +136,4 @@ def read_geojson_polygon(path: str | os.PathLike) -> list[np.ndarray]:
     where, rings = found[0]
     if not rings:
         raise InterpError(f"{where}: the polygon has no rings")
-    names = ["exterior"] + [f"hole {k}" for k in range(1, len(rings))]
-    return [_ring(r, f"{where} {n}") for r, n in zip(rings, names, strict=True)]
+    return [_ring(r, f"{where} {n}") for r, n in zip(rings, ring_names(len(rings)), strict=True)]

@@ -30,7 +30,7 @@ import numpy as np
 from interp._extras import require
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path
-from interp.io._grids import GridLike, component_names
+from interp.io._grids import GridLike, GridParts, component_names
 
 
 def raster_transform(grid: GridLike, path: str | os.PathLike = "grid") -> tuple[float, ...]:
@@ -145,3 +145,43 @@ def write_geotiff(path: str | os.PathLike, grid: GridLike, crs: str | None = Non
             dst.descriptions = tuple(names)
             dst.units = tuple(units)
     return path
+
+
+def read_geotiff(path: str | os.PathLike) -> GridParts:
+    """Axes, fields and units of a GeoTIFF: each band a field named by its description
+    (``band_k`` counting from 1 without one), with the band's unit, nodes at the pixel
+    centres (see the module notes); nodata values become NaN.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.arange(6.0).reshape(3, 2)}, {"z": "m"})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     axes, fields, units = read_geotiff(write_geotiff(Path(d) / "z.tif", g))
+    >>> [a.tolist() for a in axes], fields["z"].tolist(), units
+    ([[0.0, 1.0, 2.0], [0.0, 1.0]], [[0.0, 1.0], [2.0, 3.0], [4.0, 5.0]], {'z': 'm'})
+    """
+    rasterio = require("rasterio", "geotiff", "reading GeoTIFF grids")
+    try:
+        src = rasterio.open(path)
+    except rasterio.errors.RasterioIOError as exc:
+        raise InterpError(f"{path}: not a readable GeoTIFF ({exc})") from None
+    with src:
+        a, b, c, d, e, f = tuple(src.transform)[:6]
+        if b or d or e >= 0:
+            raise InterpError(
+                f"{path}: the raster is rotated or runs south to north; only north-up "
+                "GeoTIFFs are read as grids"
+            )
+        x = c + a * (np.arange(src.width) + 0.5)
+        y = f + e * (np.arange(src.height)[::-1] + 0.5)
+        bands = src.read(masked=True).astype(np.float64).filled(np.nan)
+        fields, units = {}, {}
+        for k, (name, unit) in enumerate(zip(src.descriptions, src.units, strict=True)):
+            name = name or f"band_{k + 1}"
+            # [row, col] with rows running north to south -> [i, j] along x, y
+            fields[name] = np.ascontiguousarray(bands[k][::-1].T)
+            if unit:
+                units[name] = unit
+    return (x, y), fields, units

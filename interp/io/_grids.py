@@ -7,6 +7,14 @@ writers read a grid through the attributes of :class:`interp.Grid` (``axes``,
 sits below it.  ``.npz``, ``.csv`` and ``.vti`` are written through
 :func:`~interp.io.atomic_path`; ``.zarr`` is a directory written block by
 block and moved into place.
+
+Every format stores the fields' units, each in its own way: ``.npz`` an
+array ``units`` of (field, unit) rows of text; ``.csv`` the column name
+``name (unit)``, which every CSV reader reads as it stands; ``.vti`` a
+string array ``units`` of (field, unit) tuples in the image's field data;
+``.zarr`` the group attribute ``units``; GeoTIFF each band's unit
+(:mod:`interp.io._geotiff`); NetCDF each variable's ``units`` attribute
+(:mod:`interp.io._xarray`).
 """
 
 from __future__ import annotations
@@ -23,8 +31,10 @@ from xml.sax.saxutils import quoteattr
 import numpy as np
 
 from interp._arrays import is_dask
+from interp._geometry import grid_nodes
 from interp.errors import InterpError
-from interp.io._atomic import atomic_path, move_into_place
+from interp.io._atomic import atomic_path, move_into_place, refuse_folder
+from interp.io._tables import read_table
 from interp.io._writer import write_table
 
 #: name stored in a Zarr store's attributes to mark a grid written by :func:`save_zarr`.
@@ -37,6 +47,11 @@ LARGE_OUTPUT_BYTES = 1_000_000_000
 #: bytes per stored number: 8 for the binary formats (before compression), about 16 in a
 #: text table (up to 17 significant digits and a delimiter).
 BYTES_PER_VALUE = {".csv": 16}
+
+#: name of the array of (field, unit) pairs in a ``.npz`` grid and in a ``.vti`` grid's field data.
+UNITS = "units"
+#: a ``.csv`` grid column holding units: ``name (unit)``, as in ``z (m)``.
+UNIT_COLUMN = re.compile(r"^(.*\S) \(([^()]+)\)$")
 
 #: what a grid reader returns: axes, fields and units.
 GridParts = tuple[tuple[np.ndarray, ...], dict[str, Any], dict[str, str]]
@@ -120,6 +135,8 @@ def save_grid(grid: GridLike, path: str | Path) -> Path:
     path = Path(path)
     suffix = path.suffix.lower()
     writer = GRID_WRITERS.get(suffix)
+    if suffix != ".zarr":  # a Zarr store is a folder
+        refuse_folder(path, ".tif")
     if writer is None:
         raise InterpError(f"cannot save a grid as {path.name!r}: use {', '.join(GRID_WRITERS)}")
     if suffix != ".csv":
@@ -153,10 +170,10 @@ def read_grid(path: str | Path) -> GridParts:
 
     Examples
     --------
-    >>> read_grid("g.csv")  # doctest: +ELLIPSIS
+    >>> read_grid("g.txt")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    interp.errors.InterpError: cannot read a grid from 'g.csv': readable grid formats are .npz, ...
+    interp.errors.InterpError: cannot read a grid from 'g.txt': readable grid formats are .csv, ...
     """
     path = Path(path)
     reader = GRID_READERS.get(path.suffix.lower())
@@ -178,6 +195,9 @@ def _read_npz(path: Path) -> GridParts:
             arrays = {name: data[name] for name in data.files}
     except (OSError, ValueError) as exc:
         raise InterpError(f"{path}: not a readable .npz file ({exc})") from None
+    units = {}
+    if UNITS in arrays and arrays[UNITS].dtype.kind == "U":
+        units = dict(arrays.pop(UNITS).reshape(-1, 2).tolist())
     for g in (3, 2, 1):
         names = list("xyz"[:g])
         if not all(n in arrays and arrays[n].ndim == 1 for n in names):
@@ -185,7 +205,7 @@ def _read_npz(path: Path) -> GridParts:
         shape = tuple(len(arrays[n]) for n in names)
         fields = {n: v.astype(np.float64) for n, v in arrays.items() if n not in names}
         if fields and all(v.shape[:g] == shape for v in fields.values()):
-            return tuple(arrays[n].astype(np.float64) for n in names), fields, {}
+            return tuple(arrays[n].astype(np.float64) for n in names), fields, units
     raise InterpError(
         f"{path}: not a grid written by interp: it needs 1D arrays x, y(, z) and fields "
         f"shaped along them; found {', '.join(f'{n} {v.shape}' for n, v in arrays.items())}"
@@ -224,14 +244,64 @@ def _read_vti(path: Path) -> GridParts:
         # VTK stores x fastest: read the spatial axes reversed, then put them back
         v = data.reshape(tuple(n[:g][::-1]) + ((k,) if k > 1 else ()))
         fields[name] = np.ascontiguousarray(np.moveaxis(v, range(g), range(g)[::-1]))
-    return axes, fields, {}
+    return axes, fields, _vti_units(head)
+
+
+def _vti_units(head: str) -> dict[str, str]:
+    """The (field, unit) pairs of a ``.vti`` grid's field data: UTF-8 strings, each ended by
+    a zero byte, written as ASCII numbers (VTK's form of a string array)."""
+    found = re.search(
+        rf'<Array type="String" Name="{UNITS}" NumberOfComponents="2" NumberOfTuples="\d+" '
+        r'format="ascii">([^<]*)</Array>',
+        head,
+    )
+    if found is None:
+        return {}
+    text = bytes(int(b) for b in found.group(1).split()).split(b"\0")[:-1]
+    words = [t.decode("utf-8") for t in text]
+    return dict(zip(words[0::2], words[1::2], strict=True))
+
+
+def _read_csv(path: Path) -> GridParts:
+    """A grid written as ``.csv``: one row per node, x slowest, then y(, z); fields after
+    them, a column ``name (unit)`` holding a field with units.  The columns of a
+    multi-component field (``u_0``, ``u_1``) come back as fields of their own."""
+    points, values, _, _ = read_table(path, ("x",))
+    n = len(points)
+    for g in (3, 2, 1):
+        names = list("xyz"[:g])
+        if not all(c in values for c in names[1:]):
+            continue
+        nodes = np.column_stack([points[:, 0], *(values[c] for c in names[1:])])
+        axes = tuple(np.unique(c) for c in nodes.T)
+        shape = tuple(len(a) for a in axes)
+        rest = {c: v for c, v in values.items() if c not in names}
+        if rest and np.prod(shape) == n and np.array_equal(grid_nodes(axes), nodes):
+            fields, units = {}, {}
+            for column, v in rest.items():
+                labelled = UNIT_COLUMN.match(column)
+                name = labelled.group(1) if labelled else column
+                if labelled:
+                    units[name] = labelled.group(2)
+                fields[name] = v.reshape(shape)
+            return axes, fields, units
+    raise InterpError(
+        f"{path}: not a grid written by interp: its x, y(, z) columns do not hold every node "
+        "of a regular grid, one row per node with x varying slowest"
+    )
 
 
 def _write_csv(grid: GridLike, path: Path) -> Path:
-    names, cols = field_columns(grid.fields, int(np.prod(grid.shape)))
-    return write_table(
-        path, list("xyz"[: len(grid.axes)]) + names, np.hstack([grid.points(), cols])
-    )
+    n, g = int(np.prod(grid.shape)), len(grid.axes)
+    names, cols = field_columns(grid.fields, n)
+    unit = {
+        c: f"{c} ({grid.units[name]})"
+        for name, v in grid.fields.items()
+        if grid.units.get(name)
+        for c in component_names(name, int(np.prod(v.shape[g:])))
+    }
+    header = list("xyz"[:g]) + [unit.get(c, c) for c in names]
+    return write_table(path, header, np.hstack([grid.points(), cols]))
 
 
 def _atomically(write: Callable[[GridLike, Path], None]) -> Callable[[GridLike, Path], Path]:
@@ -247,11 +317,22 @@ def _atomically(write: Callable[[GridLike, Path], None]) -> Callable[[GridLike, 
 
 def _write_npz(grid: GridLike, path: Path) -> None:
     arrays = dict(zip("xyz", grid.axes, strict=False))
+    pairs = _unit_pairs(grid)
+    if pairs:
+        arrays[UNITS] = np.array(pairs, dtype=str)
     clash = set(arrays) & set(grid.fields)
     if clash:
-        raise InterpError(f"field names {sorted(clash)} clash with the coordinate arrays in .npz")
+        raise InterpError(
+            f"field names {sorted(clash)} clash with the coordinate or units arrays in .npz; "
+            "rename those fields"
+        )
     with open(path, "wb") as fh:
         np.savez_compressed(fh, **arrays, **grid.fields)
+
+
+def _unit_pairs(grid: GridLike) -> list[tuple[str, str]]:
+    """(field, unit) for each field that has units, in the order of the fields."""
+    return [(name, grid.units[name]) for name in grid.fields if grid.units.get(name)]
 
 
 def _write_vti(grid: GridLike, path: Path) -> None:
@@ -273,13 +354,24 @@ def _write_vti(grid: GridLike, path: Path) -> None:
         )
         blocks.append(np.uint64(len(raw)).tobytes() + raw)
         offset += 8 + len(raw)
+    pairs = _unit_pairs(grid)
+    field_data = ""
+    if pairs:
+        codes = " ".join(str(b) for word in sum(pairs, ()) for b in (*word.encode(), 0))
+        field_data = (
+            f'<FieldData>\n<Array type="String" Name="{UNITS}" NumberOfComponents="2" '
+            f'NumberOfTuples="{len(pairs)}" format="ascii">{codes}</Array>\n</FieldData>\n'
+        )
     head = (
         '<?xml version="1.0"?>\n'
         '<VTKFile type="ImageData" version="1.0" byte_order="LittleEndian" '
         'header_type="UInt64">\n'
         f'<ImageData WholeExtent="{extent}" Origin="{" ".join(map(repr, origin))}" '
         f'Spacing="{" ".join(map(repr, spacing))}">\n'
-        f'<Piece Extent="{extent}">\n<PointData>\n' + "\n".join(arrays) + "\n</PointData>\n"
+        + field_data
+        + f'<Piece Extent="{extent}">\n<PointData>\n'
+        + "\n".join(arrays)
+        + "\n</PointData>\n"
         "</Piece>\n</ImageData>\n"
         '<AppendedData encoding="raw">\n_'
     )
@@ -427,6 +519,7 @@ GRID_WRITERS: dict[str, Callable[[GridLike, Path], Path]] = {
 }
 #: grid readers by file suffix: ``reader(path) -> (axes, fields, units)``.
 GRID_READERS: dict[str, Callable[[Path], GridParts]] = {
+    ".csv": _read_csv,
     ".npz": _read_npz,
     ".vti": _read_vti,
     ".zarr": read_zarr,

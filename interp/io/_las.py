@@ -31,6 +31,7 @@ from pathlib import Path
 import numpy as np
 
 from interp._extras import require
+from interp._progress import task
 from interp.errors import InterpError
 
 #: file suffixes read as LAS point clouds.
@@ -227,7 +228,10 @@ def _iter_columns(
     """Columns of the points kept by the class filter and every-n-th thinning, by chunk."""
     if isinstance(chunk_points, bool) or int(chunk_points) != chunk_points or chunk_points < 1:
         raise InterpError(f"chunk_points must be a positive integer; got {chunk_points!r}")
-    with _open(path) as reader:
+    with (
+        _open(path) as reader,
+        task(f"reading {path.name}", total=reader.header.point_count, unit="points") as advance,
+    ):
         header = reader.header
         extra = list(header.point_format.extra_dimension_names)
         clash = sorted({"x", "y", "z"} & {n.lower() for n in extra})
@@ -237,6 +241,7 @@ def _iter_columns(
         found = np.zeros(256, dtype=np.int64)
         seen = kept = 0
         for record in reader.chunk_iterator(int(chunk_points)):
+            advance(len(record))
             keep = np.ones(len(record), dtype=bool)
             if classes is not None:
                 codes = np.asarray(record.classification, dtype=np.int64)

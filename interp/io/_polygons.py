@@ -9,7 +9,7 @@ import numpy as np
 from interp.errors import InterpError
 from interp.io._geojson import is_geojson_file, read_geojson_polygon
 from interp.io._tables import read_table
-from interp.polygon import as_ring
+from interp.polygon import as_ring, crossing_text, distinct_vertices
 
 
 def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
@@ -39,7 +39,9 @@ def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
     points, values, numbers, text_columns = read_table(path, ("x", "y"))
     key = next((n for n in [*values, *text_columns] if n.lower() == "ring"), None)
     if key is None:
-        return [as_ring(points, name=f"{path} (lines {numbers[0]}-{numbers[-1]})")]
+        ring = as_ring(points, name=f"{path} (lines {numbers[0]}-{numbers[-1]})")
+        _check_simple(path, [ring], [""], [(points, numbers)])
+        return [ring]
     if key in text_columns:
         raise InterpError(
             f"{path}, line {text_columns[key]}: the ring column must hold whole numbers "
@@ -65,7 +67,27 @@ def read_polygon(path: str | os.PathLike) -> list[np.ndarray]:
         seen.add(r)
     if 0 not in seen:
         raise InterpError(f"{path}: no ring 0; number the exterior ring 0 and holes 1, 2, ...")
-    return [
+    order = sorted(zip(ids.tolist(), starts, ends, strict=True))
+    rings = [
         as_ring(points[s:e], name=f"{path} ring {r} (lines {numbers[s]}-{numbers[e - 1]})")
-        for r, s, e in sorted(zip(ids.tolist(), starts, ends, strict=True))
+        for r, s, e in order
     ]
+    rows = [(points[s:e], numbers[s:e]) for _, s, e in order]
+    _check_simple(path, rings, [f"ring {r}" for r, _, _ in order], rows)
+    return rings
+
+
+def _check_simple(
+    path: str | os.PathLike,
+    rings: list[np.ndarray],
+    names: list[str],
+    rows: list[tuple[np.ndarray, np.ndarray]],
+) -> None:
+    """Refuse rings whose edges cross, touch or overlap, naming the file lines of their ends."""
+    labels = [[f"line {n}" for n in lines[distinct_vertices(xy)]] for xy, lines in rows]
+    crossing = crossing_text(rings, names, labels)
+    if crossing is not None:
+        raise InterpError(
+            f"{path}: the polygon is not simple: {crossing}; reorder the vertices so no edges "
+            "cross or touch, or split the polygon"
+        )

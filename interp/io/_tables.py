@@ -208,7 +208,7 @@ def read_table(
         values.append(chunk.values)
         numbers.append(chunk.line_numbers)
         text_columns = chunk.text_columns
-    if not points:
+    if not any(len(p) for p in points):  # no chunk, or only rows the reader skips
         raise InterpError(f"{path}: no data rows below the header")
     return (
         np.concatenate(points),

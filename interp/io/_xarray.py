@@ -16,24 +16,49 @@ import os
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+import numpy as np
+
 from interp._extras import require
 from interp.errors import InterpError
 from interp.io._atomic import atomic_path
-from interp.io._grids import GridLike
+from interp.io._grids import GridLike, GridParts
 
 if TYPE_CHECKING:
     import xarray
 
 
-def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
-    """CF grid-mapping attributes of a CRS and the CF attributes of its x, y axes."""
-    pyproj = require("pyproj", "xarray", "storing a coordinate reference system in a Dataset")
+def _parsed(crs: str) -> object:
+    """A CRS as pyproj reads it; an unreadable one is an InterpError."""
+    pyproj = require("pyproj", "xarray", "reading a coordinate reference system")
     try:
-        parsed = pyproj.CRS.from_user_input(crs)
+        return pyproj.CRS.from_user_input(crs)
     except pyproj.exceptions.CRSError as exc:
         raise InterpError(
             f"{crs!r} is not a coordinate reference system ({exc}); give EPSG:nnnn or WKT"
         ) from None
+
+
+def _projected_unit(parsed: object) -> str:
+    unit = parsed.axis_info[0].unit_name
+    return "m" if unit == "metre" else unit
+
+
+def crs_units(crs: str) -> str | None:
+    """The unit of the easting and northing of a projected CRS (``"m"`` for metres);
+    None for any other CRS (a geographic one gives degrees, not a length).
+
+    Examples
+    --------
+    >>> crs_units("EPSG:32633"), crs_units("EPSG:2264"), crs_units("EPSG:4326")
+    ('m', 'US survey foot', None)
+    """
+    parsed = _parsed(crs)
+    return _projected_unit(parsed) if parsed.is_projected else None
+
+
+def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
+    """CF grid-mapping attributes of a CRS and the CF attributes of its x, y axes."""
+    parsed = _parsed(crs)
     axes: list[dict] = [{}, {}]
     if parsed.is_geographic:
         axes = [
@@ -41,8 +66,7 @@ def _grid_mapping(crs: str) -> tuple[dict, list[dict]]:
             {"standard_name": "latitude", "units": "degrees_north"},
         ]
     elif parsed.is_projected:
-        unit = parsed.axis_info[0].unit_name
-        unit = "m" if unit == "metre" else unit
+        unit = _projected_unit(parsed)
         axes = [{"standard_name": f"projection_{n}_coordinate", "units": unit} for n in "xy"]
     return parsed.to_cf(), axes
 
@@ -134,3 +158,51 @@ def write_netcdf(path: str | os.PathLike, grid: GridLike, crs: str | None = None
     with atomic_path(path) as tmp:
         dataset.to_netcdf(tmp, engine="netcdf4")
     return path
+
+
+def read_netcdf(path: str | os.PathLike) -> GridParts:
+    """Axes, fields and units of a NetCDF grid laid out as :func:`grid_to_xarray` writes it:
+    coordinates ``x``, ``y`` (``z``), each data variable on ``(z,) y, x`` (then its
+    component dimension), its ``units`` attribute as the field's units; the CRS variable
+    is left out.
+
+    Examples
+    --------
+    >>> import tempfile, numpy as np
+    >>> from interp import Grid
+    >>> g = Grid((np.arange(3.0), np.arange(2.0)), {"z": np.arange(6.0).reshape(3, 2)}, {"z": "m"})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     axes, fields, units = read_netcdf(write_netcdf(Path(d) / "g.nc", g))
+    >>> fields["z"].tolist(), units
+    ([[0.0, 1.0], [2.0, 3.0], [4.0, 5.0]], {'z': 'm'})
+    """
+    xr = require("xarray", "xarray", "reading NetCDF grids")
+    require("netCDF4", "xarray", "reading NetCDF grids")
+    try:
+        ds = xr.open_dataset(path, engine="netcdf4")
+    except (OSError, ValueError) as exc:
+        raise InterpError(f"{path}: not a readable NetCDF file ({exc})") from None
+    with ds:
+        names = [n for n in "xyz" if n in ds.coords and ds[n].ndim == 1]
+        if not names or names != list("xyz"[: len(names)]):
+            raise InterpError(
+                f"{path}: not a grid written by interp: it needs 1D coordinates x, y(, z); "
+                f"found {', '.join(map(str, ds.coords)) or 'none'}"
+            )
+        axes = tuple(ds[n].values.astype(np.float64) for n in names)
+        fields, units = {}, {}
+        for name, var in ds.data_vars.items():
+            if name == "crs":
+                continue
+            extra = [dim for dim in var.dims if dim not in names]
+            if set(var.dims) - set(extra) != set(names) or len(extra) > 1:
+                raise InterpError(
+                    f"{path}: the variable {name!r} lies on {var.dims}, not on the grid's "
+                    f"axes {tuple(names[::-1])} (and at most one component dimension)"
+                )
+            fields[str(name)] = np.ascontiguousarray(
+                var.transpose(*names, *extra).values.astype(np.float64)
+            )
+            if var.attrs.get("units"):
+                units[str(name)] = str(var.attrs["units"])
+    return axes, fields, units

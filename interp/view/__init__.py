@@ -20,7 +20,8 @@ function that opens a window or writes a PNG (all four pairs are also in
 
 The actors of a pyvista picture are named in ``plotter.actors``:
 ``"surface"``, ``"edges"``, ``"contours"`` (over ``"contour-halo"``, labelled by
-``"contour-labels"``), ``"points"``, ``"region"``,
+``"contour-labels"``), ``"points"``, ``"region"``, ``"breaklines"`` (over
+``"breakline-halo"``, named in the legend ``"legend"``),
 ``"frame"`` (the box of a 3D grid), ``"slices"`` and ``"isosurfaces"``.
 
 Without a display (Linux with neither ``DISPLAY`` nor ``WAYLAND_DISPLAY``

@@ -27,6 +27,7 @@ def plot_profile(
     tolerance: float | None = None,
     label: str | None = None,
     title: str | None = None,
+    coordinate_units: str | None = None,
     figsize: tuple[float, float] = (8.0, 4.0),
 ) -> Figure:
     """Draw a section: value against distance along the line, with survey points near it.
@@ -47,6 +48,9 @@ def plot_profile(
     label : str, optional
         Name of the value axis (default the profile's field name).
     title : str, optional
+    coordinate_units : str, optional
+        Units of the coordinates, added to the distance axis: ``distance
+        along the section (m)``.
     figsize : (float, float)
         Size in inches (100 pixels per inch in a PNG).
 
@@ -91,7 +95,7 @@ def plot_profile(
             zorder=3,
             label=f"survey points within {tol:.3g} of the line ({int(keep.sum())})",
         )
-    ax.set_xlabel("distance along the section")
+    ax.set_xlabel(axis_title("distance along the section", 0.0, coordinate_units))
     ax.set_ylabel(name)
     ax.grid(True, alpha=0.3)
     ax.legend(loc="best", fontsize=8)
@@ -107,7 +111,7 @@ def show_profile(
     """Show a section in a window, or write it as a PNG.
 
     ``options`` are the keywords of :func:`plot_profile` (data, tolerance,
-    label, title, figsize); ``screenshot`` and the result are as for
+    label, title, coordinate_units, figsize); ``screenshot`` and the result are as for
     :func:`show`, the default file without a display being
     ``interp-profile.png``.
 
@@ -132,6 +136,7 @@ def plot_residuals(
     *,
     title: str | None = None,
     bins: int | None = None,
+    coordinate_units: str | None = None,
     figsize: tuple[float, float] = (10.0, 4.0),
 ) -> Figure:
     """Draw a map of points coloured by residual (centred on zero) beside its histogram.
@@ -147,6 +152,8 @@ def plot_residuals(
         Title (default the count, mean, RMS and largest absolute residual).
     bins : int, optional
         Histogram bins (default numpy's "auto").
+    coordinate_units : str, optional
+        Units of the coordinates, added to the map's axis titles (``x - 512000 (m)``).
     figsize : (float, float)
         Size in inches (100 pixels per inch in a PNG).
 
@@ -199,8 +206,8 @@ def plot_residuals(
     )
     ax_map.set_aspect("equal", adjustable="datalim")
     ax_map.ticklabel_format(useOffset=False, style="plain")
-    ax_map.set_xlabel(axis_title("x", offset[0]))
-    ax_map.set_ylabel(axis_title("y", offset[1]))
+    ax_map.set_xlabel(axis_title("x", offset[0], coordinate_units))
+    ax_map.set_ylabel(axis_title("y", offset[1], coordinate_units))
     fig.colorbar(dots, ax=ax_map, label="residual")
     _, edges, bars = ax_hist.hist(
         res, bins="auto" if bins is None else bins, edgecolor="0.3", linewidth=0.3
@@ -227,7 +234,7 @@ def show_residuals(
     """Show residuals in a window, or write them as a PNG.
 
     ``options`` are the keywords of :func:`plot_residuals` (title, bins,
-    figsize); ``screenshot`` and the result are as for :func:`show`, the
+    coordinate_units, figsize); ``screenshot`` and the result are as for :func:`show`, the
     default file without a display being ``interp-residuals.png``.
 
     Examples

@@ -18,6 +18,9 @@ if TYPE_CHECKING:
 #: contour lines: a light line over a dark, wider halo, readable on the dark and the light
 #: ends of a colour map alike.
 CONTOUR_LIGHT, CONTOUR_DARK = "white", "#1a1a1a"
+#: breaklines: magenta, a hue of neither colour map (nor of the grey cell edges or the red
+#: region outline), over a dark halo that keeps them readable on the light end of the map.
+BREAKLINE_COLOUR, BREAKLINE_HALO = "#ff00ff", CONTOUR_DARK
 #: data point markers: small, dark and half transparent, so the surface shows through.
 MARKERS = {"color": "#1a1a1a", "point_size": 5, "opacity": 0.55}
 #: coordinates from this size on are shown relative to a round offset when their range is
@@ -73,20 +76,25 @@ def tick_decimals(lo: float, hi: float, n: int) -> int:
     return decimals((hi - lo) / max(1, n - 1))
 
 
-def axis_title(name: str, offset: float) -> str:
-    """``name``, or ``name − offset`` when the axis shows coordinates less an offset.
+def axis_title(name: str, offset: float, units: str | None = None) -> str:
+    """``name``, or ``name − offset`` when the axis shows coordinates less an offset, then
+    the coordinates' units in brackets when they are known.
 
     Examples
     --------
-    >>> axis_title("x", 512000.0), axis_title("y", 0.0)
-    ('x - 512000', 'y')
+    >>> axis_title("x", 512000.0), axis_title("y", 0.0), axis_title("x", 512000.0, "m")
+    ('x - 512000', 'y', 'x - 512000 (m)')
     """
-    return f"{name} {MINUS} {offset:.12g}" if offset else name
+    title = f"{name} {MINUS} {offset:.12g}" if offset else name
+    return f"{title} ({units})" if units else title
 
 
-def axes_and_camera(plotter: pyvista.Plotter, scene: Scene, warp: float | None) -> None:
-    """Axes with local coordinates (values on the vertical axis of a warped surface), and
-    the camera: a map seen from above, or a view from the south-west."""
+def axes_and_camera(
+    plotter: pyvista.Plotter, scene: Scene, warp: float | None, units: str | None = None
+) -> None:
+    """Axes with local coordinates (values on the vertical axis of a warped surface), titled
+    with the coordinates' ``units`` when known, and the camera: a map seen from above, or a
+    view from the south-west."""
     flat = scene.flat and warp is None
     box = np.array(plotter.bounds, dtype=np.float64).reshape(3, 2)
     if warp is not None:
@@ -100,9 +108,13 @@ def axes_and_camera(plotter: pyvista.Plotter, scene: Scene, warp: float | None) 
     )
     plotter.show_bounds(
         axes_ranges=shown.ravel().tolist(),
-        xtitle=axis_title("x", offsets[0]),
-        ytitle=axis_title("y", offsets[1]),
-        ztitle=axis_title("z" if warp is None else scene.label, offsets[2]),
+        xtitle=axis_title("x", offsets[0], units),
+        ytitle=axis_title("y", offsets[1], units),
+        ztitle=(
+            axis_title("z", offsets[2], units)
+            if warp is None
+            else axis_title(scene.label, offsets[2])
+        ),
         show_zaxis=not flat,
         n_xlabels=counts[0],
         n_ylabels=counts[1],

@@ -53,6 +53,20 @@ def scene_of(obj: object, field: str | None) -> Scene:
     )
 
 
+def coordinate_units_of(obj: object) -> str | None:
+    """The unit of the coordinates a drawn object states: that of a Grid's projected CRS
+    (None without a CRS, for a geographic one, or when pyproj is not installed)."""
+    crs = getattr(obj, "crs", None)
+    if crs is None:
+        return None
+    from interp.io import crs_units
+
+    try:
+        return crs_units(crs)
+    except InterpError:
+        return None
+
+
 def pick(field: str | None, names: list[str], where: str) -> str | None:
     if field is None:
         return names[0] if names else None

@@ -7,14 +7,25 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from interp._breaklines import as_lines
+from interp._renamed import renamed
 from interp.errors import InterpError
 from interp.field import Field
 from interp.polygon import as_ring
 from interp.view._difference import surface_difference, volumes_text
-from interp.view._look import MARKERS, add_contours, axes_and_camera, caption, font, tick_decimals
+from interp.view._look import (
+    BREAKLINE_COLOUR,
+    BREAKLINE_HALO,
+    MARKERS,
+    add_contours,
+    axes_and_camera,
+    caption,
+    font,
+    tick_decimals,
+)
 from interp.view._p2 import SCALARS
 from interp.view._render import finish_plotter, new_plotter, off_screen_for
-from interp.view._scenes import Scene, scene_of
+from interp.view._scenes import Scene, coordinate_units_of, scene_of
 
 if TYPE_CHECKING:
     import pyvista
@@ -23,19 +34,25 @@ if TYPE_CHECKING:
 CMAP = "viridis"
 #: colour map for differences and residuals, centred on zero.
 DIVERGING_CMAP = "RdBu_r"
+#: depth offsets (in units of the depth buffer's resolution) of lines drawn over cell edges
+FRONT = {"breakline-halo": -20, "breaklines": -40}
+#: width and height of the legend, as fractions of the picture's
+LEGEND_SIZE = (0.16, 0.05)
 #: the most contour levels or isosurfaces drawn: more would merge into a solid tint.
 MAX_LEVELS = 100
 
 
+@renamed(field="name")
 def plot(
     obj: object,
     *,
-    field: str | None = None,
+    name: str | None = None,
     warp: float | None = None,
     contours: int | list[float] | None = None,
     edges: bool = False,
     points: bool | np.ndarray | None = None,
     region: object | None = None,
+    breaklines: object | None = None,
     slices: int | list | None = None,
     isosurfaces: int | list[float] | None = None,
     window_size: tuple[int, int] = (1200, 900),
@@ -43,6 +60,7 @@ def plot(
     clim: tuple[float, float] | None = None,
     diverging: bool = False,
     title: str | None = None,
+    coordinate_units: str | None = None,
     off_screen: bool | None = None,
 ) -> pyvista.Plotter:
     """Build the picture of a field, mesh, grid or mesh file as a pyvista Plotter.
@@ -52,8 +70,9 @@ def plot(
     obj : Field, Mesh, Grid, str or Path
         What to draw.  A path is read with :func:`interp.io.read`; a Mesh without
         a field, or a file without point data, draws the mesh edges.
-    field : str, optional
-        Which field of a Grid or file to draw (default the first).
+    name : str, optional
+        Which field of a Grid or file to draw, by name (default the first).
+        (``field=`` is the old spelling of this keyword.)
     warp : float, optional
         2D data only: lift the surface to z = warp * value (vertical
         exaggeration; negative to draw depths downwards).
@@ -69,6 +88,11 @@ def plot(
         it a warped marker sits on the surface.
     region : Polygon or array_like (p, 2), optional
         2D only: outline of a region (an :class:`interp.Polygon` or one ring).
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: breaklines (as :func:`interp.read_lines` returns them), drawn
+        in magenta over a dark halo, apart from the grey cell edges and the red
+        region outline, and named in a legend; a warped picture drapes them
+        on the surface.
     slices : int or list of (origin, normal), optional
         3D only: cut planes coloured by the field.  An int n gives n planes
         across the longest side of the bounding box.  A 3D grid shows three
@@ -85,6 +109,10 @@ def plot(
         Colour on a diverging map centred on zero (differences, residuals).
     title : str, optional
         Text above the picture (default the field's name and units; ``""`` for none).
+    coordinate_units : str, optional
+        Units of the coordinates (``"m"``), added to the axis titles:
+        ``x - 512000 (m)``; default the unit of a Grid's projected ``crs``
+        (none without one).  The field's own units go on the colour bar.
     off_screen : bool, optional
         Render without a window (default: only when there is no display).
 
@@ -106,7 +134,9 @@ def plot(
     (0.0, 1.0)
     >>> p.close()
     """
-    scene = scene_of(obj, field)
+    scene = scene_of(obj, name)
+    if coordinate_units is None:
+        coordinate_units = coordinate_units_of(obj)
     plotter = new_plotter(window_size, off_screen)
     try:
         _draw(
@@ -117,11 +147,13 @@ def plot(
             edges=edges,
             points=points,
             region=region,
+            breaklines=breaklines,
             slices=slices,
             isosurfaces=isosurfaces,
             cmap=cmap,
             clim=clim,
             diverging=diverging,
+            coordinate_units=coordinate_units,
         )
     except BaseException:
         plotter.close()
@@ -145,9 +177,9 @@ def show(obj: object, *, screenshot: str | Path | None = None, **options: Any) -
         opening a window.  Without a display the picture is always written,
         by default to ``interp-view.png`` in the current folder.
     **options
-        The keywords of :func:`plot` (field, warp, contours, edges, points,
-        region, slices, isosurfaces, window_size, cmap, clim, diverging,
-        title) except off_screen.
+        The keywords of :func:`plot` (name, warp, contours, edges, points,
+        region, breaklines, slices, isosurfaces, window_size, cmap, clim,
+        diverging, title, coordinate_units) except off_screen.
 
     Returns
     -------
@@ -183,6 +215,7 @@ def plot_difference(
     points: bool | np.ndarray | None = None,
     window_size: tuple[int, int] = (1200, 900),
     title: str | None = None,
+    coordinate_units: str | None = None,
     off_screen: bool | None = None,
 ) -> pyvista.Plotter:
     """Build the picture of ``upper - lower``, red above and blue below, white at zero.
@@ -196,7 +229,7 @@ def plot_difference(
     volumes : object with attributes above, below, net, area, optional
         Volumes to print in the title (for example :func:`interp.volume_between`'s
         result).
-    region, warp, contours, edges, points, window_size, off_screen
+    region, warp, contours, edges, points, window_size, coordinate_units, off_screen
         As for :func:`plot`.
     title : str, optional
         Title (default the volumes, or the names of the two surfaces).
@@ -234,6 +267,7 @@ def plot_difference(
         window_size=window_size,
         diverging=True,
         title=title,
+        coordinate_units=coordinate_units,
         off_screen=off_screen,
     )
     if volumes is not None:
@@ -251,7 +285,7 @@ def show_difference(
     """Show the difference of two surfaces in a window, or write it as a PNG.
 
     ``options`` are the keywords of :func:`plot_difference` (volumes, region,
-    warp, contours, edges, points, window_size, title); ``screenshot`` and the
+    warp, contours, edges, points, window_size, title, coordinate_units); ``screenshot`` and the
     result are as for :func:`show`, the default file without a display being
     ``interp-difference.png``.
 
@@ -329,28 +363,39 @@ def _markers(scene: Scene, points: bool | object, warp: float | None) -> np.ndar
 
 
 def _region_lines(scene: Scene, region: object, warp: float | None) -> pyvista.PolyData:
-    import pyvista as pv
-
     if not scene.flat:
         raise InterpError("a region outline is drawn on 2D pictures only; this one is 3D")
     if hasattr(region, "exterior"):
         rings = [region.exterior, *region.holes]
     else:
         rings = [as_ring(region, "region")]
+    return _polylines(scene, [np.vstack([ring, ring[:1]]) for ring in rings], warp)
+
+
+def _breakline_lines(scene: Scene, breaklines: object, warp: float | None) -> pyvista.PolyData:
+    if not scene.flat:
+        raise InterpError("breaklines are drawn on 2D pictures only; this one is 3D")
+    return _polylines(scene, [line[:, :2] for line in as_lines(breaklines)], warp)
+
+
+def _polylines(scene: Scene, lines: list[np.ndarray], warp: float | None) -> pyvista.PolyData:
+    """Polylines (k, 2) in the plane of a flat picture, or draped on its warped surface
+    (split into pieces of 0.5% of the picture's width, so that they follow it)."""
+    import pyvista as pv
+
     parts = []
-    for ring in rings:
-        closed = np.vstack([ring, ring[:1]])
+    for line in lines:
         if warp is not None:
             step = 0.005 * float(np.ptp(scene.nodes[:, :2], axis=0).max())
-            seg = np.linalg.norm(np.diff(closed, axis=0), axis=1)
+            seg = np.linalg.norm(np.diff(line, axis=0), axis=1)
             n = np.maximum(1, np.ceil(seg / step).astype(np.int64))
             t = np.concatenate([np.arange(k) / k for k in n])
             start = np.repeat(np.arange(len(seg)), n)
-            closed = closed[start] + t[:, None] * (closed[start + 1] - closed[start])
-            closed = np.vstack([closed, closed[:1]])
-        z = np.zeros(len(closed)) if warp is None else warp * _heights(scene, closed)
-        parts.append(pv.lines_from_points(np.column_stack([closed, z])))
-    return pv.merge(parts) if len(parts) > 1 else parts[0]
+            pieces = line[start] + t[:, None] * (line[start + 1] - line[start])
+            line = np.vstack([pieces, line[-1:]])
+        z = np.zeros(len(line)) if warp is None else warp * _heights(scene, line)
+        parts.append(pv.lines_from_points(np.column_stack([line, z])))
+    return pv.merge(parts) if len(parts) > 1 else parts[0] if parts else pv.PolyData()
 
 
 def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
@@ -369,7 +414,7 @@ def _planes(volume: pyvista.DataSet, slices: int | list | None) -> list[tuple]:
             out.append((origin, np.eye(3)[axis]))
         return out
     out = []
-    for k, plane in enumerate(slices):
+    for k, plane in enumerate(slices, start=1):
         try:
             origin, normal = (np.asarray(v, dtype=np.float64).reshape(3) for v in plane)
         except (TypeError, ValueError):
@@ -391,11 +436,13 @@ def _draw(
     edges: bool,
     points: bool | object | None,
     region: object | None,
+    breaklines: object | None,
     slices: int | list | None,
     isosurfaces: int | list[float] | None,
     cmap: str | None,
     clim: tuple[float, float] | None,
     diverging: bool,
+    coordinate_units: str | None,
 ) -> None:
     import pyvista as pv
 
@@ -456,10 +503,29 @@ def _draw(
         lines["edges"] = (scene.edges, "#505050", 1.0)
     if region is not None:
         lines["region"] = (_region_lines(scene, region, warp), "red", 3.0)
+    if breaklines is not None:
+        drawn = _breakline_lines(scene, breaklines, warp)
+        lines["breakline-halo"] = (drawn, BREAKLINE_HALO, 5.5)
+        lines["breaklines"] = (drawn, BREAKLINE_COLOUR, 3.0)
     for name, (data, color, width) in lines.items():
         if data.n_points:
-            data = data if name == "region" else _lifted(data, warp)
-            plotter.add_mesh(data, name=name, color=color, line_width=width, lighting=False)
+            data = _lifted(data, warp) if name == "edges" else data
+            actor = plotter.add_mesh(data, name=name, color=color, line_width=width, lighting=False)
+            if name in FRONT:
+                # breaklines run along cell edges: pull them (the line over its halo) to
+                # the front, or the lines would fight over the same depth
+                actor.mapper.SetRelativeCoincidentTopologyLineOffsetParameters(0, FRONT[name])
+    if "breaklines" in plotter.actors:
+        legend = plotter.add_legend(
+            [["breaklines", BREAKLINE_COLOUR]],
+            bcolor="white",
+            border=True,
+            face="line",
+            size=LEGEND_SIZE,
+            name="legend",
+        )
+        # bottom right, below the colour bar (pyvista's corners let it overhang the picture)
+        legend.SetPosition(0.98 - LEGEND_SIZE[0], 0.02)
     if points is not None and points is not False:
         plotter.add_mesh(
             pv.PolyData(_markers(scene, points, warp)),
@@ -481,7 +547,7 @@ def _draw(
             title_font_size=font(plotter, 1 / 40),
             label_font_size=font(plotter, 1 / 45),
         )
-    axes_and_camera(plotter, scene, warp)
+    axes_and_camera(plotter, scene, warp, coordinate_units)
 
 
 def _colouring(
