@@ -45,7 +45,10 @@ def number(value: float | None, places: int = 0) -> str:
     """``value`` in fixed point with at least ``places`` decimals and 6 significant digits.
 
     Decimals beyond ``places`` that only the significant digits asked for
-    are trimmed of trailing zeros; None and NaN print as ``-``.
+    are trimmed of trailing zeros, and there are at most 6 of them: a value
+    a million times finer than the resolution asked for (the round-off of a
+    volume that is zero) prints as 0 at that resolution.  None and NaN print
+    as ``-``.
 
     Examples
     --------
@@ -53,14 +56,18 @@ def number(value: float | None, places: int = 0) -> str:
     ('4180000.25', '11691234.50', '0.5', '0.00312346')
     >>> number(None), number(float("nan")), number(-2.0), number(2.0, 1)
     ('-', '-', '-2', '2.0')
+    >>> number(2.2e-11, 3), number(-2.2e-11, 3), number(2.2e-8, 3)
+    ('0.000', '0.000', '0.000000022')
     """
     if value is None or math.isnan(value):
         return "-"
     if math.isinf(value):
         return "inf" if value > 0 else "-inf"
     magnitude = math.floor(math.log10(abs(value))) if value else 0
-    k = min(max(places, DIGITS - 1 - magnitude), 12)
+    k = min(max(places, DIGITS - 1 - magnitude), places + DIGITS, 12)
     text = f"{value:.{k}f}"
+    if float(text) == 0.0:
+        text = text.lstrip("-")
     if k > places:
         head, _, tail = text.partition(".")
         tail = tail.rstrip("0").ljust(places, "0")

@@ -497,8 +497,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument(
         "--chunk-rows",
         type=count,
-        default=500_000,
-        help="query rows read, evaluated and written at a time (default 500000)",
+        default=100_000,
+        help="query rows read, evaluated and written at a time (default 100000)",
     )
     p.add_argument(
         "--workers",

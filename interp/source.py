@@ -278,13 +278,14 @@ SAMPLED = "_sampled"
 RESIDUAL = "_residual"
 
 
+@renamed(query="query_file")
 def sample_file(
     fields: dict[str, Field],
-    query: str | Path,
+    query_file: str | Path,
     out: str | Path,
     *,
     coords: Sequence[str] = ("x", "y"),
-    chunk_rows: int = 500_000,
+    chunk_rows: int = 100_000,
     evaluate: Callable[[Field, np.ndarray], np.ndarray] | None = None,
 ) -> SampleReport:
     """Evaluate fields at the points of a query file, streaming it in chunks.
@@ -303,6 +304,17 @@ def sample_file(
 
     Parameters
     ----------
+    fields : dict of str to Field
+        The fields to sample, by the names their columns get.
+    query_file : str or Path
+        The query points: a point file or a LAS/LAZ cloud.  (``query=`` is
+        the old spelling of this keyword.)
+    out : str or Path
+        The output file.
+    coords : sequence of str
+        The coordinate columns of the query file.
+    chunk_rows : int
+        Query rows read, evaluated and written at a time.
     evaluate : callable, optional
         ``evaluate(field, points) -> values``; default ``field(points)``.  The
         dask layer passes one that spreads the chunk over workers.
@@ -325,7 +337,7 @@ def sample_file(
     >>> report.checks["z_sampled"]["rms"]
     0.5
     """
-    if Path(out).resolve() == Path(query).resolve():
+    if Path(out).resolve() == Path(query_file).resolve():
         raise InterpError(
             f"the output {out} is the query file itself; writing it would destroy the query "
             "file: give another output file"
@@ -336,7 +348,7 @@ def sample_file(
     with ExitStack() as stack:
         advance = stack.enter_context(task("sampling", unit="rows"))
         writer = None
-        blocks = _query_blocks(query, coords, chunk_rows)
+        blocks = _query_blocks(query_file, coords, chunk_rows)
         for head, delimiter, text, points, lead, numeric in blocks:
             if writer is None:
                 columns, known, residuals = _output_columns(head, numeric, sampled)
@@ -363,7 +375,7 @@ def sample_file(
             rows += len(points)
             advance(len(points))
         if writer is None:
-            raise InterpError(f"{query}: the query file has no data rows")
+            raise InterpError(f"{query_file}: the query file has no data rows")
     checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
     return SampleReport(rows, outside, Path(out), columns, checks)
 
@@ -409,7 +421,7 @@ def _check_summary(sums: np.ndarray, worst: float) -> dict:
 
 def _query_blocks(
     query: str | Path, coords: Sequence[str], chunk_rows: int
-) -> Iterator[tuple[list[str], str, list[str] | None, np.ndarray, np.ndarray | None, dict]]:
+) -> Iterator[tuple[list[str], str, bytes | None, np.ndarray, np.ndarray | None, dict]]:
     """Blocks of a query file: header, delimiter, raw rows, points, leading numbers,
     and the numeric query columns by name.
 
@@ -423,4 +435,4 @@ def _query_blocks(
             yield head, ",", None, chunk.points, lead, columns
         return
     for chunk in iter_point_chunks(query, coords=tuple(coords), chunk_rows=chunk_rows):
-        yield list(chunk.names), chunk.delimiter, chunk.rows, chunk.points, None, chunk.values
+        yield list(chunk.names), chunk.delimiter, chunk.text, chunk.points, None, chunk.values

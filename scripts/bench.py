@@ -14,6 +14,7 @@ child process that runs one engine's whole case.
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import subprocess
 import sys
@@ -147,13 +148,14 @@ def bench_grid(small: bool) -> None:
 
 
 def bench_sample(small: bool) -> None:
-    """Peak memory of ``interp sample`` as the query file grows (it streams in chunks)."""
+    """Throughput and peak memory of ``interp sample`` as the query file grows (it
+    streams in chunks); CPU time per row too, since the machine may be shared."""
     import shutil
     import tempfile
     from pathlib import Path
 
     exe = shutil.which("interp")
-    sizes = (200_000, 800_000) if small else (2_000_000, 10_000_000)
+    sizes = (100_000, 1_000_000) if small else (1_000_000, 10_000_000)
     rng = np.random.default_rng(3)
     with tempfile.TemporaryDirectory() as tmp:
         d = Path(tmp)
@@ -174,7 +176,8 @@ def bench_sample(small: bool) -> None:
                     )
             probe = (
                 "import resource, subprocess, sys; subprocess.run(sys.argv[1:], check=True); "
-                "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024)"
+                "u = resource.getrusage(resource.RUSAGE_CHILDREN); "
+                "print(u.ru_maxrss / 1024, u.ru_utime + u.ru_stime)"
             )
             t = time.perf_counter()
             out = subprocess.run(
@@ -195,9 +198,11 @@ def bench_sample(small: bool) -> None:
                 check=True,
             )
             dt = time.perf_counter() - t
+            peak, cpu = map(float, out.stdout.split())
             print(
-                f"  interp sample, {rows:>11,} rows: {dt:7.1f} s, "
-                f"{rows / dt:12,.0f} rows/s, peak resident set {float(out.stdout):8.1f} MiB"
+                f"  interp sample, {rows:>11,} rows: {dt:7.1f} s, {rows / dt:12,.0f} rows/s, "
+                f"CPU {cpu:6.1f} s ({1e6 * cpu / rows:.2f} us/row), "
+                f"peak resident set {peak:8.1f} MiB, load {os.getloadavg()[0]:.1f}"
             )
 
 

@@ -78,3 +78,16 @@ def test_the_wrapper_keeps_the_new_signature():
 
     assert list(inspect.signature(f).parameters) == ["new"]
     assert f.__doc__ == "Doc."
+
+
+def test_sample_file_query_file_and_its_old_spelling(tmp_path):
+    from interp.source import sample_file
+
+    f = Field(Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]), [0.0, 4.0, 8.0])
+    (tmp_path / "q.csv").write_text("x,y\n0.25,0.25\n")
+    _, message = _old(
+        lambda: sample_file({"z": f}, query=tmp_path / "q.csv", out=tmp_path / "o.csv")
+    )
+    assert message.startswith("sample_file(): the keyword query= is now query_file=")
+    # P1 at barycentric (0.5, 0.25, 0.25) of corner values 0, 4, 8 is 3
+    assert (tmp_path / "o.csv").read_text().splitlines() == ["x,y,z", "0.25,0.25,3"]

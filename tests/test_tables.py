@@ -17,7 +17,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from interp import InterpError
-from interp.io import _tables, iter_point_chunks, read_points, write_table
+from interp.io import TableWriter, _tables, iter_point_chunks, read_points, write_table
 
 
 def both(path, coords=("x", "y"), chunk_rows=None):
@@ -180,3 +180,72 @@ def test_cli_sample_output_is_the_same_on_both_paths(tmp_path):
         texts.append(out.read_text())
     # z = 2x + y on the triangle (0,0),(4,0),(0,4): a plane, so P1 is exact
     assert texts[0] == texts[1] == "id;x;y;z\nP0;1;1;3\nP1;0.5;2;3\nP2;9;9;\n"
+
+
+@settings(max_examples=80, deadline=None)
+@given(
+    st.lists(
+        st.tuples(
+            st.integers(-999, 999),
+            st.integers(0, 99),
+            st.sampled_from(["\n", "\r\n", "\r", "\n\n", "\r\n \r\n", "\n\t\n"]),
+        ),
+        min_size=1,
+        max_size=30,
+    ),
+    st.booleans(),
+    st.booleans(),
+    st.integers(1, 7),
+    st.integers(1, 40),
+)
+def test_line_ends_and_block_edges_read_as_python_text_files(
+    tmp_path_factory, rows, bom, last_break, chunk_rows, read_bytes
+):
+    path = tmp_path_factory.mktemp("t") / "t.csv"
+    text = "x,y\n" + "".join(f"{x},{y}{end}" for x, y, end in rows)
+    if not last_break:
+        text = text.rstrip("\r\n\t ")
+    path.write_bytes(("\ufeff" if bom else "").encode() + text.encode())
+    # reference: Python's text files (universal newlines, utf-8-sig), blank lines skipped
+    with open(path, encoding="utf-8-sig") as fh:
+        lines = fh.read().split("\n")
+    ref = [(n, line) for n, line in enumerate(lines[1:], start=2) if line.strip()]
+    _tables.READ_BYTES, before = read_bytes, _tables.READ_BYTES
+    try:
+        chunks = list(iter_point_chunks(path, chunk_rows=chunk_rows))
+    finally:
+        _tables.READ_BYTES = before
+    assert [r for c in chunks for r in c.rows] == [line for _, line in ref]
+    assert [n for c in chunks for n in c.line_numbers.tolist()] == [n for n, _ in ref]
+    points = np.concatenate([c.points for c in chunks])
+    assert points.tolist() == [[float(v) for v in line.split(",")] for _, line in ref]
+
+
+def test_rows_written_from_bytes_equal_rows_written_as_strings(tmp_path):
+    source = tmp_path / "q.csv"
+    source.write_bytes(
+        "id;x;y\r\nA\u00e9;0.5;1\r\n\r\nB\xff;2;3\r\n".encode(errors="surrogateescape")
+    )
+    texts = []
+    for as_bytes in (True, False):
+        out = tmp_path / f"o{as_bytes}.csv"
+        with TableWriter(out, ["id", "x", "y", "z"], ";") as writer:
+            for chunk in iter_point_chunks(source, chunk_rows=2):
+                z = chunk.points[:, 1] / 1e5
+                writer.write(chunk.text if as_bytes else chunk.rows, z)
+        texts.append(out.read_bytes())
+    # the row bytes pass through (line ends as \n, the blank line dropped); IEEE division is
+    # correctly rounded, so y / 1e5 is the double nearest 1e-05 and 3e-05: Python's repr
+    assert (
+        texts[0]
+        == texts[1]
+        == "id;x;y;z\nA\u00e9;0.5;1;1e-05\nB\xff;2;3;3e-05\n".encode(errors="surrogateescape")
+    )
+
+
+def test_lines_of_unicode_spaces_before_the_header_are_blank(tmp_path):
+    # str.isspace: U+00A0 (no-break space) and U+2003 (em space) are whitespace in Python
+    path = tmp_path / "pts.csv"
+    path.write_text("\u00a0\n\u2003 \nx,y,z\n1,2,3\n", encoding="utf-8")
+    chunk = next(iter_point_chunks(path))
+    assert chunk.names == ["x", "y", "z"] and chunk.line_numbers.tolist() == [4]

@@ -7,15 +7,14 @@ whitespace), read whole with :func:`read_points` or in chunks with
 from __future__ import annotations
 
 import csv
-import io
 import os
 import re
 import warnings
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from itertools import islice, repeat
+from itertools import repeat
 from pathlib import Path
-from typing import IO
+from typing import BinaryIO
 
 import numpy as np
 import pyarrow as pa
@@ -33,8 +32,14 @@ CHUNK_ROWS = 500_000
 ENCODING = {"encoding": "utf-8", "errors": "surrogateescape"}
 #: parse clean blocks with ``pyarrow.csv``; False parses every block cell by cell.
 BULK = True
-#: whitespace other than space, tab and line feed, which ``str.split`` also splits on.
-_OTHER_SPACE = re.compile(r"[^\S \t\n]")
+#: bytes read from a point file at a time.
+READ_BYTES = 1 << 22
+#: bytes that rule a whitespace-delimited block out of the bulk path: whitespace
+#: other than space, tab and line feed, which ``str.split`` also splits on, and any
+#: byte of a non-ASCII character (some of them are whitespace too).
+_OTHER_SPACE = re.compile(rb"[\x0b\x0c\x1c-\x1f\x80-\xff]")
+#: the byte order mark that may open a UTF-8 file.
+_BOM = b"\xef\xbb\xbf"
 
 
 @dataclass(frozen=True)
@@ -47,8 +52,9 @@ class PointChunk:
         The coordinate columns, in the order asked for.
     values : dict of str to ndarray (n,)
         The other numeric columns by header name; empty cells are NaN.
-    rows : list of str
-        The raw text of each data row, without the line break.
+    text : bytes
+        The raw bytes of the data rows, each ended by a line feed (``\\r\\n``
+        and ``\\r`` line ends read as ``\\n``); blank lines left out.
     line_numbers : ndarray (n,) int64
         The 1-based line of each row in the file.
     header : str
@@ -64,12 +70,17 @@ class PointChunk:
 
     points: np.ndarray
     values: dict[str, np.ndarray]
-    rows: list[str]
+    text: bytes
     line_numbers: np.ndarray
     header: str
     names: list[str]
     delimiter: str
     text_columns: dict[str, int]
+
+    @property
+    def rows(self) -> list[str]:
+        """The raw text of each data row, without the line break."""
+        return self.text.decode(**ENCODING).split("\n")[:-1]
 
 
 @dataclass(frozen=True)
@@ -129,10 +140,11 @@ def iter_point_chunks(
     if int(chunk_rows) != chunk_rows or chunk_rows < 1:
         raise InterpError(f"chunk_rows must be a positive integer; got {chunk_rows!r}")
     with _open_table(path) as file:
+        lines = _Lines(file)
         line = 0
-        for text in file:
+        while raw := lines.take(1):
             line += 1
-            if text.strip():
+            if (text := raw.decode(**ENCODING)).strip():
                 break
         else:
             raise InterpError(f"{path}: the file is empty; expected a header row such as x,y,z")
@@ -145,11 +157,12 @@ def iter_point_chunks(
             )
         layout = _layout(path, text.rstrip("\n"), coords)
         text_columns: dict[str, int] = {}
-        while block := list(islice(file, int(chunk_rows))):
-            numbers = np.arange(line + 1, line + 1 + len(block), dtype=np.int64)
-            line += len(block)
+        while block := lines.take(int(chunk_rows)):
+            count = block.count(b"\n")
+            numbers = np.arange(line + 1, line + 1 + count, dtype=np.int64)
+            line += count
             chunk = _parse(path, layout, block, numbers, text_columns)
-            if chunk.rows:
+            if chunk.text:
                 yield chunk
 
 
@@ -229,13 +242,58 @@ def _check_coords(coords: Sequence[str]) -> list[str]:
     return names
 
 
-def _open_table(path: Path) -> IO[str]:
+def _open_table(path: Path) -> BinaryIO:
     if not path.is_file():
         raise InterpError(f"{path}: no such file; check the name and folder")
     try:
-        return open(path, encoding="utf-8-sig", errors="surrogateescape")
+        return open(path, "rb")
     except OSError as exc:
         raise InterpError(f"{path}: cannot open the file ({exc.strerror})") from None
+
+
+class _Lines:
+    """Whole lines of a binary file, many at a time, each ended by ``b"\\n"``.
+
+    Line ends ``\\r\\n`` and ``\\r`` read as ``\\n`` and a leading UTF-8 byte
+    order mark is dropped, as Python's text files (``utf-8-sig``) read them; a
+    last line without a line break gets one.
+    """
+
+    def __init__(self, file: BinaryIO) -> None:
+        self._file = file
+        self._data = b""
+        self._start = 0
+        self._ends = np.empty(0, dtype=np.int64)
+        self._first = True
+
+    def take(self, n: int) -> bytes:
+        """The next ``n`` lines (fewer at the end of the file, ``b""`` after it)."""
+        pieces = []
+        while n > len(self._ends):
+            n -= len(self._ends)
+            stop = int(self._ends[-1]) + 1 if len(self._ends) else self._start
+            pieces.append(self._data[self._start : stop])
+            if not self._read(self._data[stop:]):
+                return b"".join(pieces)
+        stop = int(self._ends[n - 1]) + 1
+        pieces.append(self._data[self._start : stop])
+        self._start, self._ends = stop, self._ends[n:]
+        return b"".join(pieces)
+
+    def _read(self, rest: bytes) -> bool:
+        """Read on after the partial line ``rest``; False at the end of the file."""
+        raw = self._file.read(max(READ_BYTES, len(_BOM)))
+        while raw.endswith(b"\r") and (more := self._file.read(1)):
+            raw += more
+        data = raw.removeprefix(_BOM) if self._first else raw
+        self._first = False
+        if not raw and rest:
+            data = b"\n"
+        if b"\r" in data:
+            data = data.replace(b"\r\n", b"\n").replace(b"\r", b"\n")
+        self._data, self._start = rest + data, 0
+        self._ends = np.flatnonzero(np.frombuffer(self._data, np.uint8) == 10)
+        return bool(raw or data)
 
 
 def _cells(line: str, delimiter: str) -> list[str]:
@@ -290,26 +348,32 @@ def _is_number(text: str) -> bool:
 def _parse(
     path: Path,
     layout: _Layout,
-    block: list[str],
+    block: bytes,
     numbers: np.ndarray,
     text_columns: dict[str, int],
 ) -> PointChunk:
-    """Parse a block of raw lines (with their line breaks) into a chunk."""
-    text = "".join(block)
-    rows = text.split("\n")
-    if text.endswith("\n"):
-        rows.pop()
-    if "" in rows or any(map(str.isspace, rows)):
+    """Parse a block of raw lines (each ended by a line feed) into a chunk.
+
+    A clean block goes to :func:`_parse_bulk` as it is; any other is decoded,
+    its blank lines are dropped, and it goes to the bulk parser again when
+    that left it clean, else to :func:`_parse_cells`.
+    """
+    parsed = _parse_bulk(layout, block, len(numbers), text_columns) if BULK else None
+    if parsed is None:
+        rows = block.decode(**ENCODING).split("\n")[:-1]
         keep = np.array([bool(r.strip()) for r in rows], dtype=bool)
-        rows = [r for r, k in zip(rows, keep, strict=True) if k]
-        numbers = numbers[keep]
-        text = "\n".join(rows)
-    parsed = _parse_bulk(layout, text, text_columns) if BULK else None
-    points, values = parsed or _parse_cells(path, layout, rows, numbers, text_columns, text)
+        if not keep.all():
+            rows = [r for r, k in zip(rows, keep, strict=True) if k]
+            numbers = numbers[keep]
+            block = "".join(r + "\n" for r in rows).encode(**ENCODING)
+            parsed = _parse_bulk(layout, block, len(numbers), text_columns) if BULK else None
+        quoted = b'"' in block
+        parsed = parsed or _parse_cells(path, layout, rows, numbers, text_columns, quoted)
+    points, values = parsed
     return PointChunk(
         points,
         values,
-        rows,
+        block,
         numbers,
         layout.header,
         layout.names,
@@ -319,27 +383,27 @@ def _parse(
 
 
 def _parse_bulk(
-    layout: _Layout, text: str, text_columns: dict[str, int]
+    layout: _Layout, block: bytes, rows: int, text_columns: dict[str, int]
 ) -> tuple[np.ndarray, dict[str, np.ndarray]] | None:
-    """Points and values of a clean block through ``pyarrow.csv``, or None.
+    """Points and values of a clean block of ``rows`` lines through ``pyarrow.csv``, or None.
 
     A block is clean when every row has the header's cells, every numeric
     column parses with no cell spelling NaN (Arrow reads ``nan(1)``, Python
-    does not), and every coordinate is finite; the others (quotes, ragged
-    rows, text cells, bad coordinates, odd whitespace) go to
+    does not), and every coordinate is finite; the others (quotes, blank
+    lines, ragged rows, text cells, bad coordinates, odd whitespace) go to
     :func:`_parse_cells`, which gives the same arrays and names bad rows.
     """
     delimiter = layout.delimiter
-    if '"' in text or (delimiter == " " and _OTHER_SPACE.search(text)):
+    if b'"' in block or (delimiter == " " and _OTHER_SPACE.search(block)):
         return None
     if delimiter == " ":
-        text = re.sub(r"(?m)^ +| +$", "", re.sub(r"[ \t]+", " ", text))
+        block = re.sub(rb"(?m)^ +| +$", b"", re.sub(rb"[ \t]+", b" ", block))
     keys = [str(j) for j in range(len(layout.names))]
     numeric = layout.coords + [j for j in layout.values if layout.names[j] not in text_columns]
     try:
         table = pacsv.read_csv(
-            io.BytesIO(text.encode(**ENCODING)),
-            read_options=pacsv.ReadOptions(column_names=keys),
+            pa.BufferReader(block),
+            read_options=pacsv.ReadOptions(column_names=keys, use_threads=False),
             parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False),
             convert_options=pacsv.ConvertOptions(
                 column_types=dict.fromkeys([keys[j] for j in numeric], pa.float64()),
@@ -350,7 +414,7 @@ def _parse_bulk(
         )
     except pa.ArrowInvalid:
         return None
-    if any(pc.sum(pc.is_nan(column)).as_py() for column in table.columns):
+    if table.num_rows != rows or any(pc.sum(pc.is_nan(c)).as_py() for c in table.columns):
         return None
     columns = [table.column(keys[j]).to_numpy() for j in numeric]
     points = np.column_stack(columns[: len(layout.coords)])
@@ -366,12 +430,12 @@ def _parse_cells(
     rows: list[str],
     numbers: np.ndarray,
     text_columns: dict[str, int],
-    text: str,
+    quoted: bool,
 ) -> tuple[np.ndarray, dict[str, np.ndarray]]:
     """Points and values cell by cell, naming the line of a bad row; new text
     columns are added to ``text_columns``."""
     k = len(layout.names)
-    cells = _flat_cells(path, rows, layout.delimiter, k, numbers, '"' in text)
+    cells = _flat_cells(path, rows, layout.delimiter, k, numbers, quoted)
     points = np.empty((len(rows), len(layout.coords)))
     for axis, j in enumerate(layout.coords):
         points[:, axis] = _coordinate(path, layout.names[j], cells[j::k], numbers)

@@ -6,7 +6,7 @@ import os
 from collections.abc import Sequence
 from contextlib import ExitStack
 from pathlib import Path
-from typing import IO
+from typing import BinaryIO
 
 import numpy as np
 import pyarrow as pa
@@ -66,13 +66,13 @@ class TableWriter:
         self.header = names
         self.delimiter = delimiter
         self._stack: ExitStack | None = None
-        self._file: IO[str] | None = None
+        self._file: BinaryIO | None = None
 
     def __enter__(self) -> TableWriter:
         with ExitStack() as stack:
             tmp = stack.enter_context(atomic_path(self.path))
-            self._file = stack.enter_context(open(tmp, "w", newline="\n", **ENCODING))
-            self._file.write(self.delimiter.join(self.header) + "\n")
+            self._file = stack.enter_context(open(tmp, "wb"))
+            self._file.write((self.delimiter.join(self.header) + "\n").encode(**ENCODING))
             self._stack = stack.pop_all()
         return self
 
@@ -80,14 +80,16 @@ class TableWriter:
         stack, self._stack, self._file = self._stack, None, None
         return stack.__exit__(*exc_info)
 
-    def write(self, rows: Sequence[str] | None, values: object) -> None:
+    def write(self, rows: Sequence[str] | bytes | None, values: object) -> None:
         """Append rows: ``rows[i]`` (raw text, or nothing) then the cells of ``values[i]``.
 
         Parameters
         ----------
-        rows : sequence of str or None
-            Leading text of each row, written unchanged; None for rows made
-            of ``values`` only.
+        rows : sequence of str, bytes, or None
+            Leading text of each row, written unchanged: one string per row,
+            or the raw bytes of all rows, each ended by a line feed (as
+            :attr:`interp.io.PointChunk.text`); None for rows made of
+            ``values`` only.
         values : array_like (n, k) or (n,)
             Numbers written after the row text, shortest round-trip form
             (``3`` for 3.0); NaN is an empty cell.
@@ -96,34 +98,63 @@ class TableWriter:
             raise InterpError("TableWriter.write needs an open writer: use it in a with block")
         table = np.asarray(values, dtype=np.float64)
         table = table.reshape(len(table), -1) if table.ndim == 1 else table
-        if table.ndim != 2 or (rows is not None and len(rows) != len(table)):
+        lead = None if rows is None else _lead_text(rows)
+        if table.ndim != 2 or (lead is not None and len(lead) != len(table)):
             raise InterpError(
                 f"values must be an (n, k) array with one row per text row; got shape "
-                f"{table.shape} for {'no' if rows is None else len(rows)} text rows"
+                f"{table.shape} for {'no' if lead is None else len(lead)} text rows"
             )
         if not len(table):
             return
         columns = [_number_text(column) for column in table.T]
-        if rows is not None:
-            columns.insert(0, list(rows))
-        width = 2 * len(columns)
-        pieces = [self.delimiter] * (width * len(table))
-        for j, column in enumerate(columns):
-            pieces[2 * j :: width] = column
-        pieces[width - 1 :: width] = ["\n"] * len(table)
-        self._file.write("".join(pieces))
+        if lead is None:
+            lead = pc.binary_join_element_wise(_LINE_FEED, columns.pop(0), _NOTHING)
+        lines = pc.binary_join_element_wise(
+            lead, *columns, pa.scalar(self.delimiter.encode(), _TEXT)
+        )
+        offsets = np.frombuffer(lines.buffers()[1], np.int64)[lines.offset :][[0, len(lines)]]
+        self._file.write(memoryview(lines.buffers()[2])[offsets[0] + 1 : offsets[1]])
+        self._file.write(b"\n")
 
 
-def _number_text(column: np.ndarray) -> list[str]:
+#: the Arrow type of written text: bytes, 64-bit offsets.
+_TEXT = pa.large_binary()
+_LINE_FEED = pa.scalar(b"\n", _TEXT)
+_NOTHING = pa.scalar(b"", _TEXT)
+
+
+def _lead_text(rows: Sequence[str] | bytes) -> pa.Array:
+    """The rows as Arrow text, each with a line feed in front: ``"\\n" + row``.
+
+    Raw bytes (rows each ended by a line feed) are used in place: a line feed
+    put before the first row makes every row's line feed the next row's first
+    byte.
+    """
+    if isinstance(rows, bytes):
+        ends = np.flatnonzero(np.frombuffer(rows, np.uint8) == 10)
+        offsets = np.concatenate([[0], ends + 1])
+        data = pa.py_buffer(b"\n" + rows)
+        return pa.Array.from_buffers(_TEXT, len(ends), [None, pa.py_buffer(offsets), data])
+    return pa.array([b"\n" + r.encode(**ENCODING) for r in rows], _TEXT)
+
+
+def _number_text(column: np.ndarray) -> pa.Array:
     """Numbers in their shortest round-trip form (``3`` for 3.0, as ``repr``
     without ``.0``); NaN is an empty cell.  Arrow formats the magnitudes it
     writes like ``repr``, Python the rest."""
-    text = pc.fill_null(pc.cast(pa.array(column, from_pandas=True), pa.string()), "").to_pylist()
+    missing = np.isnan(column)
+    text = pc.cast(pa.array(column, mask=missing), pa.large_string())
     size = np.abs(column)
-    plain = ((size >= PLAIN[0]) & (size < PLAIN[1])) | (column == 0) | np.isnan(column)
-    for i in np.flatnonzero(~plain).tolist():
-        text[i] = repr(float(column[i])).removesuffix(".0")
-    return text
+    odd = np.flatnonzero(~(((size >= PLAIN[0]) & (size < PLAIN[1])) | (column == 0) | missing))
+    if odd.size:
+        mask = np.zeros(len(column), dtype=bool)
+        mask[odd] = True
+        text = pc.replace_with_mask(
+            text,
+            mask,
+            pa.array([repr(v).removesuffix(".0") for v in column[odd].tolist()], text.type),
+        )
+    return pc.fill_null(text, "").cast(_TEXT)
 
 
 def write_table(
