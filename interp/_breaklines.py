@@ -170,6 +170,8 @@ class Inserted(NamedTuple):
     """(m, 3) int64 counter-clockwise triangles."""
     values: np.ndarray
     """(e,) the value of each added point along its line (NaN: the line has none)."""
+    edges: np.ndarray
+    """(k, 2) int64: the mesh edges that carry a breakline or the boundary."""
 
 
 def insert(
@@ -228,4 +230,4 @@ def insert(
                 t /= np.dot(b[:2] - a[:2], b[:2] - a[:2])
                 values[len(added) + c] = a[2] + t * (b[2] - a[2])
                 break
-    return Inserted(r.points, r.cells, values)
+    return Inserted(r.points, r.cells, values, r.edges)

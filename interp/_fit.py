@@ -243,8 +243,8 @@ def fit(
     1.0
     """
     data = samples(points, values, order)
-    mesh, added = mesh_and_added(data.unique, max_edge, boundary, breaklines)
-    mean = _node_values(data, mesh, added)
+    mesh, added, _ = mesh_and_added(data.unique, max_edge, boundary, breaklines)
+    mean = node_values(data, mesh, added)
     if order == 1:
         return Field(mesh, data.shaped(mean), name=name, units=units)
     ptr, idx = neighbours(mesh)
@@ -256,10 +256,21 @@ def fit(
     return Field(mesh.elevate(), values, name=name, units=units)
 
 
-def _node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
+def node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
     """Values at every mesh node: the data, then the nodes that breaklines added
     (their values along the line; from the data's own surface where the line has
-    none)."""
+    none).
+
+    Examples
+    --------
+    >>> data = samples([[0.0, 0], [2, 0], [0, 2], [2, 2]], [0.0, 2.0, 0.0, 2.0], 1)
+    >>> mesh, added, _ = mesh_and_added(data.unique, None, None, [[[1.0, 0, 5], [1, 2, np.nan]]])
+    >>> node_values(data, mesh, added)[4:, 0].tolist()  # a value given, one held from it
+    [5.0, 5.0]
+    >>> mesh, added, _ = mesh_and_added(data.unique, None, None, [[[1.0, 0], [1, 2]]])
+    >>> node_values(data, mesh, added)[4:, 0].tolist()  # no values: the data's own surface
+    [1.0, 1.0]
+    """
     if not added.size:
         return data.mean
     c = data.mean.shape[1]
@@ -293,7 +304,19 @@ def neighbours(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
     >>> idx[ptr[1]:ptr[2]].tolist()
     [0, 2, 3]
     """
-    edges, n = mesh.edges()[0], mesh.n_nodes
+    return adjacency(mesh.edges()[0], mesh.n_nodes)
+
+
+def adjacency(edges: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Neighbours of each of n nodes along ``edges`` (e, 2), as compressed sparse rows
+    (see :func:`neighbours`).
+
+    Examples
+    --------
+    >>> ptr, idx = adjacency(np.array([[0, 2], [2, 1]]), 3)
+    >>> ptr.tolist(), idx.tolist()
+    ([0, 1, 2, 4], [2, 2, 0, 1])
+    """
     key = np.sort(np.concatenate([edges[:, 0] * n + edges[:, 1], edges[:, 1] * n + edges[:, 0]]))
     ptr = np.zeros(n + 1, dtype=np.int64)
     np.cumsum(np.bincount(key // n, minlength=n), out=ptr[1:])

@@ -88,3 +88,4 @@ def _workload() -> None:
                 integrate(f, region=square)
                 volume_between(f, fit(pts, z * 0.5, order=order), region=square)
                 profile(f, [[0.1, 0.1], [0.9, 0.9]], step=0.1)
+                crossvalidate(pts, z, order=order, breaklines=[[[0.3, 0.3], [0.7, 0.6]]])

@@ -132,9 +132,10 @@ def triangulate(
 
 def mesh_and_added(
     points: object, max_edge: object, boundary: object, breaklines: object
-) -> tuple[Mesh, np.ndarray]:
-    """:func:`triangulate`, and the values along their lines of the nodes the
-    breaklines added (NaN where a line has none)."""
+) -> tuple[Mesh, np.ndarray, np.ndarray]:
+    """:func:`triangulate`, the values along their lines of the nodes the
+    breaklines added (NaN where a line has none), and the mesh edges (k, 2)
+    that carry a breakline or the boundary."""
     pts = as_points(points)
     check_finite(pts)
     d = pts.shape[1]
@@ -159,14 +160,14 @@ def mesh_and_added(
     if breaklines is not None or boundary is not None:
         uniq, inverse = _distinct(pts)
         lines = as_lines(breaklines) if breaklines is not None else []
-        rings = _rings(boundary)
-        uniq, cells, added = insert(uniq, lines, rings)
+        rings = boundary_rings(boundary)
+        uniq, cells, added, edges = insert(uniq, lines, rings)
         outside = None if rings is None else ~contains(rings, uniq)
         centre = box_frame(pts.min(axis=0), pts.max(axis=0))[0]
         vol, size = simplex_geometry((uniq - centre)[cells] / scale)
         cells, vol, size = _drop_flat(cells, vol, size)
     else:
-        added, outside = np.empty(0), None
+        added, outside, edges = np.empty(0), None, np.empty((0, 2), dtype=np.int64)
         cells, qhull, every_vertex = _delaunay(pts if d == 2 else x)
         vol, size = simplex_geometry(x[cells])
         if d == 3:  # cospherical points (a lattice): cells split alike from both sides
@@ -188,10 +189,10 @@ def mesh_and_added(
         )
     # Delaunay cells of checked points need no second check; their measures scale back
     mesh = Mesh._checked(uniq, cells[keep], (vol[keep] * scale**d, size[keep] * scale))
-    return mesh, added
+    return mesh, added, edges
 
 
-def _rings(boundary: object) -> list[np.ndarray] | None:
+def boundary_rings(boundary: object) -> list[np.ndarray] | None:
     """The rings of a boundary: a :class:`interp.Polygon` (holes too) or one ring."""
     if boundary is None:
         return None
@@ -218,7 +219,7 @@ def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> 
     d = points.shape[1]
     if d != 2:
         raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-    return contains(_rings(boundary), points[cells].mean(axis=1))
+    return contains(boundary_rings(boundary), points[cells].mean(axis=1))
 
 
 def _drop_flat(

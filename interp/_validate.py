@@ -20,16 +20,38 @@ determinants of all d-subsets, so only candidates holding p pay for the
 circumsphere test.  The search is the slow part in 3D (C(15, 4) = 1365
 candidates), not in 1D or 2D.
 
+With breaklines or a boundary (2D) the triangulation is constrained, and
+that test is the wrong one: a triangle of the constrained triangulation may
+hold a link vertex in its circumcircle that a constraint hides from it, and a
+triangle of link vertices holding p may stick out of a star that is not
+convex.  Removing a vertex that is on no constraint still changes only its
+star, and the new cells are the constrained Delaunay triangulation of the
+star polygon (the link ring, a simple polygon star-shaped from p).  The
+kernel of :mod:`interp._kernels.validate2d` triangulates that polygon as a
+polygon: ears clipped, then Lawson flips of its inner edges until each is
+locally Delaunay, with the exact predicates of the triangulator, so it
+agrees with a refit at any coordinate offset.  A point inside a straight
+constraint (on two collinear constraint edges) leaves the constraint in
+place: its star is cut in two along the segment between its two constraint
+neighbours, and each half is triangulated so.  Nodes that ``fit`` values
+from the plain Delaunay surface of the data (boundary vertices, vertices of
+lines without values) are valued again from the others where the removed
+point is a corner of the plain cell holding them (its plain star re-filled
+the same way), so their values are those of the refit.
+
 For ``order=2`` the prediction also needs the recovered gradients at the
 corners of that cell, and those change when p is removed: their neighbour
 lists lose p and gain the new edges of the re-filled star.  The kernel
 grows the new cells of the star from the cell holding p, crossing each
 inner face by gift-wrapping (the Delaunay neighbour across a face is the
 vertex beyond it whose sphere through the face is met first) and stopping
-at the faces of the old star's boundary.  It then rebuilds the neighbour
-lists of the link vertices under the ``max_edge`` mask, and repeats the
-local least-squares fits of :mod:`interp.fit` at the corners, so the result
-is the leave-one-out of the P2 fit itself, not an approximation of it.
+at the faces of the old star's boundary (with constraints: the polygon's
+triangles).  It then rebuilds the neighbour lists of the link vertices
+under the ``max_edge`` mask, and repeats the local least-squares fits of
+:mod:`interp.fit` at the corners, so the result is the leave-one-out of the
+P2 fit itself, not an approximation of it.  The fit's gradient recovery
+uses the mesh's edges, including those along a breakline, whose end nodes
+see across it; the leave-one-out does the same.
 
 Where points are not in general position (four or more points on one
 circle, as on a regular grid) the re-triangulation of a star is not unique,
@@ -46,11 +68,14 @@ from pathlib import Path
 import numpy as np
 
 from interp._arrays import as_points, positive
-from interp._fit import midpoint, neighbours, samples
+from interp._breaklines import as_lines
+from interp._fit import Samples, adjacency, midpoint, neighbours, node_values, samples
 from interp._geometry import short_cells
+from interp._kernels.predicates import orient2d
 from interp._kernels.validate import leave_one_out
+from interp._kernels.validate2d import NO_FAN, ON_LINE, leave_one_out2d
 from interp._progress import task
-from interp._triangulate import inside_boundary, triangulate
+from interp._triangulate import boundary_rings, mesh_and_added, triangulate
 from interp.basis import EDGES, shape
 from interp.errors import InterpError
 from interp.io import write_table
@@ -67,6 +92,7 @@ def crossvalidate(
     order: int = 1,
     max_edge: float | None = None,
     boundary: object | None = None,
+    breaklines: list[object] | None = None,
 ) -> np.ndarray:
     """Leave-one-out residuals: each measured value minus its prediction from all the others.
 
@@ -84,16 +110,41 @@ def crossvalidate(
         The ``max_edge`` mask of the fit: a prediction that falls in a cell
         with a longer edge is NaN.
     boundary : Polygon or array_like (p, 2), optional
-        2D only: a polygon (an :class:`interp.Polygon`, holes included, or
-        one ring): a prediction that falls in a cell of the others' Delaunay
-        triangulation whose centroid lies outside it is NaN.  ``fit(...,
-        boundary=)`` inserts the boundary's edges and vertices instead, so in
-        the cells the boundary crosses (or whose circumcircle holds one of
-        its vertices) a residual differs from that of a refit; elsewhere it
-        is the same.  For ``order=2`` the gradients around a removed point
-        are recovered from its re-triangulated neighbourhood whether or not
-        those new cells are inside the boundary.  Breaklines are not taken
-        into account.
+        2D only: the ``boundary`` of :func:`interp.fit` (an
+        :class:`interp.Polygon`, holes included, or one ring): its edges are
+        constraints of the triangulation and the cells outside it are dropped,
+        so a point outside it has no residual.
+    breaklines : list of array_like (k, 2) or (k, 3), optional
+        2D only: the ``breaklines`` of :func:`interp.fit`, as x, y[, value]
+        polylines.  Their vertices are not rows of ``points`` and get no
+        residual themselves; they stay in every refit, with their values.
+
+    With ``breaklines`` or ``boundary`` the fit validated is the one
+    :func:`interp.fit` builds with them (a constrained Delaunay triangulation,
+    breakline and boundary nodes valued as there), and each residual equals
+    that of ``fit(others, breaklines=lines, boundary=polygon)`` evaluated at
+    the point, P1 or P2.  For a point that lies on a breakline or on the
+    boundary, "leaving it out" also takes its vertex out of the line or ring
+    that has one there (the line then runs straight from the previous to the
+    next vertex), and then:
+
+    * where the line runs straight through the point (it lies inside a
+      segment, or at a vertex exactly in line with its neighbours on the mesh,
+      that has no value of its own), the line is unchanged and the residual
+      is that of the refit;
+    * at a bend, an end or a crossing of lines, next to a crossing point that
+      rounding moved off the line, or at a line vertex with a value of its
+      own, taking the vertex out changes the lines themselves (new crossings,
+      new line values, a boundary with a corner cut off) and with it the
+      triangulation beyond the point's neighbourhood.  Those points get NaN
+      and one warning gives their count; refit them one by one with
+      :func:`interp.fit` if they are needed.
+
+    A point on the convex hull of the data (a vertex of it or on one of its
+    edges) gets NaN with breaklines or a boundary.  So does a point beside a
+    cell that the triangulation dropped as too thin to use (a point within
+    rounding distance of a line, not on it), with a warning giving their
+    count.
 
     Returns
     -------
@@ -110,7 +161,7 @@ def crossvalidate(
     -----
     The whole set is triangulated once and each point's neighbourhood is
     re-triangulated locally (see the module notes); the residuals equal
-    those of fitting the n - 1 other points, n times over.  Residuals
+    those of fitting the n - 1 other points, n times over (to rounding).  Residuals
     measure how well the data predict themselves at the data spacing; they
     are not a guarantee of accuracy between the points, and a surface used
     for design or payment still needs the independent checks required by
@@ -123,63 +174,24 @@ def crossvalidate(
     >>> r = crossvalidate(pts, [0.0, 0.0, 0.0, 0.0, 1.0])
     >>> r.tolist()  # the hull corners have no prediction; the centre is predicted 0
     [nan, nan, nan, nan, 1.0]
+
+    A crease along y = 1, followed by a breakline there (a linear fit on each
+    side predicts the data exactly; without the line it cuts across):
+
+    >>> pts = np.array([[0.0, 0], [2, 0], [0, 2], [2, 2], [1, 0.5], [1, 1.5]])
+    >>> z = np.abs(pts[:, 1] - 1)
+    >>> crossvalidate(pts, z)[4:].round(6).tolist()
+    [-0.333333, -0.333333]
+    >>> (crossvalidate(pts, z, breaklines=[[[0, 1, 0.0], [2, 1, 0.0]]])[4:].round(12) + 0).tolist()
+    [0.0, 0.0]
     """
     data = samples(points, values, order)
-    mesh = triangulate(data.unique)
-    x, cells = mesh.points, mesh.cells
-    kept = np.ones(len(cells), dtype=bool)
-    limit = np.inf
-    if max_edge is not None:
-        limit = positive(max_edge, "max_edge")
-        kept = short_cells(x, cells, limit)
-        if not kept.any():
-            raise InterpError(f"max_edge={max_edge} removes every cell; use a larger max_edge")
-    if boundary is not None:
-        kept &= inside_boundary(x, cells, boundary)
-        if not kept.any():
-            raise InterpError(
-                "the boundary mask removes every cell; check that the boundary surrounds the points"
-            )
-    used = np.bincount(cells[kept].ravel(), minlength=len(x)) > 0
-    ptr, idx = np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64)
-    if order == 2:
-        ptr, idx = neighbours(Mesh(x, cells[kept]))
-    d = x.shape[1]
-    tri = np.full((len(x), d + 1), -1, dtype=np.int64)
-    bary = np.full((len(x), d + 1), np.nan)
-    grad = np.full((len(x) if order == 2 else 0, d + 1, d, data.mean.shape[1]), np.nan)
-    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
-    p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
-    scratch = np.zeros((4, len(x)), dtype=np.int64)
-    scratch[0] = -1
-    stamp = 0
-    with task("leave-one-out", total=len(x), unit="points") as advance:
-        for lo in range(0, len(x), SLICE):
-            hi = min(len(x), lo + SLICE)
-            stamp = leave_one_out(
-                x,
-                data.mean,
-                cells,
-                kept,
-                vc_ptr,
-                vc_idx,
-                ptr,
-                idx,
-                limit,
-                tri,
-                bary,
-                p2_grad,
-                lo,
-                hi,
-                scratch,
-                stamp,
-            )
-            advance(hi - lo)
-    if boundary is not None:
-        # the cell of the others' triangulation that holds each point, masked as the fit's
-        found = np.flatnonzero(tri[:, 0] >= 0)
-        tri[found[~inside_boundary(x, tri[found], boundary)]] = -1
-    predicted = _predict(x, data.mean, tri, bary, grad)
+    limit = np.inf if max_edge is None else positive(max_edge, "max_edge")
+    if breaklines is None and boundary is None:
+        x, tri, bary, nodal, grad, used = _plain(data, order, limit)
+    else:
+        x, tri, bary, nodal, grad, used = _constrained(data, order, limit, boundary, breaklines)
+    predicted = _predict(x, tri, bary, nodal, grad)
     # a repeated location: the others' fit holds the mean of its other measurements there
     rows = np.flatnonzero(data.valid)
     u = data.inverse[rows]
@@ -301,6 +313,180 @@ def write_residuals(
     return write_table(path, header, columns)
 
 
+def _plain(data: Samples, order: int, limit: float) -> tuple[np.ndarray, ...]:
+    """The mesh nodes; the cell of the others' Delaunay triangulation holding
+    each point, its barycentric coordinates, corner values and (P2) corner
+    gradients; and which points some cell uses."""
+    mesh = triangulate(data.unique)
+    x, cells = mesh.points, mesh.cells
+    kept = _short(x, cells, limit)
+    ptr, idx = _rings(mesh, kept, order)
+    tri, bary, grad = _outputs(len(x), x.shape[1], data.mean.shape[1], order)
+    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
+    p2_grad = grad if order == 2 else None  # None: the kernel compiles no P2 branch
+    scratch = np.zeros((4, len(x)), dtype=np.int64)
+    scratch[0] = -1
+    stamp = 0
+    with task("leave-one-out", total=len(x), unit="points") as advance:
+        for lo in range(0, len(x), SLICE):
+            hi = min(len(x), lo + SLICE)
+            stamp = leave_one_out(
+                x,
+                data.mean,
+                cells,
+                kept,
+                vc_ptr,
+                vc_idx,
+                ptr,
+                idx,
+                limit,
+                tri,
+                bary,
+                p2_grad,
+                lo,
+                hi,
+                scratch,
+                stamp,
+            )
+            advance(hi - lo)
+    nodal = data.mean[np.maximum(tri, 0)]
+    return x, tri, bary, nodal, grad, _used(cells, kept, len(x))
+
+
+def _constrained(
+    data: Samples, order: int, limit: float, boundary: object, breaklines: object
+) -> tuple[np.ndarray, ...]:
+    """As :func:`_plain`, on the constrained triangulation that ``fit`` builds
+    with the breaklines and boundary; warns about the points on them that get
+    no residual."""
+    mesh, added, edges = mesh_and_added(data.unique, None, boundary, breaklines)
+    x, cells = mesh.points, mesh.cells
+    n = len(data.unique)
+    v = node_values(data, mesh, added)
+    kept = _short(x, cells, limit)
+    ptr, idx = _rings(mesh, kept, order)
+    tri, bary, grad = _outputs(n, 2, v.shape[1], order)
+    nodal = np.full((n, 3, v.shape[1]), np.nan)
+    vc_ptr, vc_idx = _vertex_cells(cells, len(x))
+    cptr, cidx = adjacency(edges, len(x))
+    plain = triangulate(data.unique).cells
+    pvc_ptr, pvc_idx = _vertex_cells(plain, n)
+    dep_ptr, dep_idx = _dependants(data.unique, plain, x, n + np.flatnonzero(np.isnan(added)))
+    status = np.zeros(n, dtype=np.int8)
+    fixed = _fixed(data.unique, breaklines, boundary)
+    p2_grad = grad if order == 2 else None
+    leave_one_out2d(
+        x,
+        v,
+        cells,
+        kept,
+        vc_ptr,
+        vc_idx,
+        ptr,
+        idx,
+        limit,
+        cptr,
+        cidx,
+        fixed,
+        plain,
+        pvc_ptr,
+        pvc_idx,
+        dep_ptr,
+        dep_idx,
+        tri,
+        bary,
+        nodal,
+        status,
+        p2_grad,
+    )
+    skipped, thin = int((status == ON_LINE).sum()), int((status == NO_FAN).sum())
+    if skipped:
+        warnings.warn(
+            f"{skipped} point(s) at a bend, an end or a crossing of a breakline or of the "
+            f"boundary get no residual (NaN): leaving one out changes the lines themselves",
+            stacklevel=3,
+        )
+    if thin:
+        warnings.warn(
+            f"{thin} point(s) beside a cell too thin to use (within rounding of a line) get "
+            f"no residual (NaN): their neighbourhood is not one fan of cells",
+            stacklevel=3,
+        )
+    return x, tri, bary, nodal, grad, _used(cells, kept, len(x))[:n]
+
+
+def _short(x: np.ndarray, cells: np.ndarray, limit: float) -> np.ndarray:
+    """The ``max_edge`` mask of the fit (every cell when there is no limit)."""
+    if limit == np.inf:
+        return np.ones(len(cells), dtype=bool)
+    kept = short_cells(x, cells, limit)
+    if not kept.any():
+        raise InterpError(f"max_edge={limit:g} removes every cell; use a larger max_edge")
+    return kept
+
+
+def _rings(mesh: Mesh, kept: np.ndarray, order: int) -> tuple[np.ndarray, np.ndarray]:
+    """The neighbour lists of the fit's kept cells (P2), or empty ones (P1)."""
+    if order == 1:
+        return np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    return neighbours(Mesh(mesh.points, mesh.cells[kept]))
+
+
+def _outputs(n: int, d: int, c: int, order: int) -> tuple[np.ndarray, ...]:
+    """Empty ``tri``, ``bary`` and ``grad`` (no rows for P1) for the kernels."""
+    tri = np.full((n, d + 1), -1, dtype=np.int64)
+    bary = np.full((n, d + 1), np.nan)
+    grad = np.full((n if order == 2 else 0, d + 1, d, c), np.nan)
+    return tri, bary, grad
+
+
+def _used(cells: np.ndarray, kept: np.ndarray, n: int) -> np.ndarray:
+    return np.bincount(cells[kept].ravel(), minlength=n) > 0
+
+
+def _dependants(
+    points: np.ndarray, plain: np.ndarray, x: np.ndarray, nodes: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """For each data point, the ``nodes`` (rows of ``x``) valued from the data's
+    own surface through it: those in a cell of the plain Delaunay triangulation
+    ``plain`` of the ``points`` that has it as a corner; compressed sparse rows."""
+    n = len(points)
+    cell = Mesh(points, plain).locate(x[nodes]).cells
+    found = cell >= 0
+    corner = plain[cell[found]].ravel()
+    node = np.repeat(nodes[found], 3)
+    order = np.argsort(corner, kind="stable")
+    ptr = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.bincount(corner, minlength=n), out=ptr[1:])
+    return ptr, node[order]
+
+
+def _fixed(points: np.ndarray, breaklines: object, boundary: object) -> np.ndarray:
+    """Data points whose leaving out changes the lines: at a line's end, at a
+    line vertex with a value of its own, or at a vertex where a line or a
+    boundary ring bends (exact)."""
+    chains = [(ln, False) for ln in as_lines(breaklines)] if breaklines is not None else []
+    chains += [
+        (np.column_stack([r, r[:, 0] * np.nan]), True) for r in boundary_rings(boundary) or []
+    ]
+    marked = []
+    for ln, closed in chains:
+        prev, nxt = np.roll(ln[:, :2], 1, axis=0), np.roll(ln[:, :2], -1, axis=0)
+        turn = np.array(
+            [orient2d(*a, *b, *c) for a, b, c in zip(prev, ln[:, :2], nxt, strict=True)]
+        )
+        ahead = np.einsum("ij,ij->i", prev - ln[:, :2], nxt - ln[:, :2]) >= 0
+        flag = (turn != 0) | ahead | np.isfinite(ln[:, 2])
+        if not closed:
+            flag[[0, -1]] = True
+        marked += ln[flag, :2].tolist()
+    keys = {tuple(p) for p in marked}
+    out = np.zeros(len(points), dtype=bool)
+    near = np.flatnonzero(np.isin(points[:, 0], [k[0] for k in keys]))
+    out[near] = [tuple(p) in keys for p in points[near].tolist()]
+    return out
+
+
 def _vertex_cells(cells: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
     """Cells around each vertex, as compressed sparse rows."""
     flat = cells.ravel()
@@ -311,13 +497,14 @@ def _vertex_cells(cells: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _predict(
-    x: np.ndarray, v: np.ndarray, tri: np.ndarray, bary: np.ndarray, grad: np.ndarray
+    x: np.ndarray, tri: np.ndarray, bary: np.ndarray, nodal: np.ndarray, grad: np.ndarray
 ) -> np.ndarray:
-    """Values (n, c) at the removed points from their new cells (NaN where none)."""
-    out = np.full((len(tri), v.shape[1]), np.nan)
+    """Values (n, c) at the removed points from their new cells (NaN where none),
+    given the values (n, d + 1, c) at the cells' corners."""
+    out = np.full((len(tri), nodal.shape[2]), np.nan)
     inside = tri[:, 0] >= 0
     t, lam = tri[inside], bary[inside]
-    nodal = v[t]
+    nodal = nodal[inside]
     order = 1
     if grad.shape[0]:
         order = 2

@@ -310,11 +310,17 @@ def cmd_crossval(args: argparse.Namespace) -> None:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
     region = region_of(args.boundary)
     beyond = ~region.contains(points) if region is not None else np.zeros(len(points), bool)
+    found = interp.read_lines(args.breaklines) if args.breaklines else None
     result, lines, residuals = {}, [], {}
     for name, v in values.items():
         stage(f"leave-one-out residuals of {name}")
         residuals[name] = interp.crossvalidate(
-            points, v, order=args.order, max_edge=args.max_edge, boundary=region
+            points,
+            v,
+            order=args.order,
+            max_edge=args.max_edge,
+            boundary=region,
+            breaklines=found,
         )
         residuals[name][beyond] = np.nan
         stats = interp.residual_summary(points, residuals[name])

@@ -221,10 +221,11 @@ def bench_parallel_section(small: bool) -> None:
 
 
 def bench_crossvalidate_section(small: bool) -> None:
-    """Leave-one-out residuals on scattered points."""
-    from bench_validate import bench_crossvalidate
+    """Leave-one-out residuals on scattered points, also with breaklines and a boundary."""
+    from bench_validate import bench_constrained, bench_crossvalidate
 
     bench_crossvalidate(10_000 if small else 100_000)
+    bench_constrained(10_000 if small else 100_000)
 
 
 def bench_triangulate_section(small: bool) -> None:

@@ -11,16 +11,23 @@ Delaunay of the others and a LinearNDInterpolator on it, for P2 one
 the residuals there, and its time is extrapolated to the whole set.  For P1
 only the Delaunay time counts (a lower bound for any refit: scipy's first
 point location on a new triangulation adds seconds more at this size).
+
+The constrained case takes the same 2D points with 40 breaklines of 25
+segments each (1,000 segments, crossing one another) and a boundary with a
+hole, times P1 and P2 against the unconstrained leave-one-out in the same
+run, and checks a few points against ``interp.fit`` refits with the same
+lines and boundary.
 """
 
 from __future__ import annotations
 
 import sys
+import time
 
 import numpy as np
 from scipy.interpolate import LinearNDInterpolator
 from scipy.spatial import Delaunay
-from timing import best_with_result
+from timing import best_of_each, best_with_result
 
 import interp
 
@@ -48,9 +55,7 @@ def bench_crossvalidate(n: int = 100_000, check: int = 6, check_p2: int = 4) -> 
         sample = np.append(np.argmin(pts[:, 0]), rng.choice(size, check, replace=False))
         ref1, tb1 = _brute_linear(pts, vals, sample)
         sample2 = sample[:check_p2]
-        tb2, ref2 = best_with_result(
-            lambda pts=pts, vals=vals, s=sample2: _brute_fit(pts, vals, s), 1
-        )
+        ref2, tb2 = _brute_fit(pts, vals, sample2)
         case = {
             "points": size,
             "p1_seconds": t1,
@@ -75,6 +80,55 @@ def bench_crossvalidate(n: int = 100_000, check: int = 6, check_p2: int = 4) -> 
     return figures
 
 
+def bench_constrained(n: int = 100_000, check: int = 3) -> dict:
+    """Time crossvalidate with 1,000 breakline segments and a boundary with a hole
+    on n random 2D points against the unconstrained one, and check it by refits."""
+    rng = np.random.default_rng(42)
+    pts = rng.random((n, 2))
+    vals = np.sin(4 * pts[:, 0]) * np.cos(3 * pts[:, 1]) + 0.01 * rng.normal(size=n)
+    lines = []
+    for i in range(40):  # gentle meanders, every other one across the others
+        t = np.linspace(0.05, 0.95, 26)
+        across = 0.05 + 0.9 * (i + 0.5) / 40 + 0.01 * np.sin(7 * t + i)
+        lines.append(np.column_stack([t, across] if i % 2 == 0 else [across, t]))
+    boundary = interp.Polygon(
+        [[0.02, 0.02], [0.98, 0.03], [0.97, 0.98], [0.03, 0.97]],
+        [[[0.4, 0.4], [0.6, 0.41], [0.59, 0.6], [0.41, 0.59]]],
+    )
+    kw = {"breaklines": lines, "boundary": boundary}
+    for order in (1, 2):  # compile once
+        interp.crossvalidate(pts[:300], vals[:300], order=order, breaklines=[lines[0][10:14]])
+    figures = {"points": n, "segments": sum(len(ln) - 1 for ln in lines)}
+    print(f"2D: {n:,} points, {figures['segments']:,} breakline segments and a boundary")
+    for order in (1, 2):
+        plain, constrained = best_of_each(
+            [
+                lambda o=order: interp.crossvalidate(pts, vals, order=o),
+                lambda o=order: interp.crossvalidate(pts, vals, order=o, **kw),
+            ],
+            repeat=2,
+        )
+        res = interp.crossvalidate(pts, vals, order=order, **kw)
+        inside = np.flatnonzero(np.isfinite(res))
+        sample = rng.choice(inside, check, replace=False)
+        ref, tb = _brute_fit(pts, vals, sample, order, kw)
+        figures[f"p{order}"] = {
+            "plain_seconds": plain,
+            "constrained_seconds": constrained,
+            "ratio": constrained / plain,
+            "refit_seconds_per_point": tb / check,
+            "max_difference": _difference(res[sample], ref),
+            "predicted": int(inside.size),
+        }
+        print(
+            f"  P{order}: constrained {constrained:6.2f} s   unconstrained {plain:6.2f} s   "
+            f"ratio {constrained / plain:5.2f}   refit {tb / check:6.2f} s per point "
+            f"({tb / check * n / 3600:5.1f} h for all); {inside.size:,} predicted; "
+            f"max |diff| from {check} refits {figures[f'p{order}']['max_difference']:.1e}"
+        )
+    return figures
+
+
 def _brute_linear(
     pts: np.ndarray, vals: np.ndarray, sample: np.ndarray
 ) -> tuple[np.ndarray, float]:
@@ -92,13 +146,18 @@ def _brute_linear(
     return out, seconds
 
 
-def _brute_fit(pts: np.ndarray, vals: np.ndarray, sample: np.ndarray) -> np.ndarray:
-    """Residuals at ``sample`` from interp.fit(order=2) of all other points."""
+def _brute_fit(
+    pts: np.ndarray, vals: np.ndarray, sample: np.ndarray, order: int = 2, kw: dict | None = None
+) -> tuple[np.ndarray, float]:
+    """Residuals at ``sample`` from interp.fit of all other points (``kw`` passed
+    on), and the seconds the fits took."""
     out = np.empty(len(sample))
+    start = time.perf_counter()
     for j, i in enumerate(sample):
         others = np.arange(len(pts)) != i
-        out[j] = vals[i] - interp.fit(pts[others], vals[others], order=2)(pts[i : i + 1])[0]
-    return out
+        f = interp.fit(pts[others], vals[others], order=order, **(kw or {}))
+        out[j] = vals[i] - f(pts[i : i + 1])[0]
+    return out, time.perf_counter() - start
 
 
 def _difference(got: np.ndarray, expected: np.ndarray) -> float:
@@ -110,4 +169,6 @@ def _difference(got: np.ndarray, expected: np.ndarray) -> float:
 
 
 if __name__ == "__main__":
-    bench_crossvalidate(int(sys.argv[1]) if len(sys.argv) > 1 else 100_000)
+    size = int(sys.argv[1]) if len(sys.argv) > 1 else 100_000
+    bench_crossvalidate(size)
+    bench_constrained(size)

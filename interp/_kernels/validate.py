@@ -84,25 +84,62 @@ def leave_one_out(
             new, n_new = _star_cells(
                 y, best, _boundary(cells, vc_idx[vc_ptr[p] : vc_ptr[p + 1]], p, local)
             )
-            over_ptr, over_idx, stamp = _new_rings(
-                x, cells, kept, vc_ptr, vc_idx, p, link, k, new, n_new, max_edge, mark, stamp
+            stamp = _star_gradients(
+                x,
+                v,
+                cells,
+                kept,
+                vc_ptr,
+                vc_idx,
+                ptr,
+                idx,
+                max_edge,
+                p,
+                link,
+                k,
+                new,
+                n_new,
+                tri[p],
+                mark,
+                stamp,
+                members,
+                grad[p],
             )
-            for i in range(r):
-                stamp += 1
-                node_gradient(
-                    tri[p, i],
-                    x,
-                    v,
-                    ptr,
-                    idx,
-                    link[:k],
-                    over_ptr,
-                    over_idx,
-                    mark,
-                    stamp,
-                    members,
-                    grad[p, i],
-                )
+    return stamp
+
+
+@numba.njit(cache=True, nogil=True)
+def _star_gradients(
+    x,
+    v,
+    cells,
+    kept,
+    vc_ptr,
+    vc_idx,
+    ptr,
+    idx,
+    max_edge,
+    p,
+    link,
+    k,
+    new,
+    n_new,
+    corners,
+    mark,
+    stamp,
+    members,
+    grad,
+):  # pragma: no cover
+    """Recovered gradients (r, d, c) at the ``corners`` with p removed and its star
+    re-filled by the cells ``new`` (link-local ids); returns the last stamp used."""
+    over_ptr, over_idx, stamp = _new_rings(
+        x, cells, kept, vc_ptr, vc_idx, p, link, k, new, n_new, max_edge, mark, stamp
+    )
+    for i in range(corners.size):
+        stamp += 1
+        node_gradient(
+            corners[i], x, v, ptr, idx, link[:k], over_ptr, over_idx, mark, stamp, members, grad[i]
+        )
     return stamp
 
 
@@ -482,3 +519,9 @@ def _smallest(a):  # pragma: no cover
     for i in range(1, a.size):
         out = min(out, a[i])
     return out
+
+
+#: the longest edge of a simplex of link vertices, for :mod:`interp._kernels.validate2d`.
+longest = _longest
+#: the gradients at the corners of a re-filled star, for :mod:`interp._kernels.validate2d`.
+star_gradients = _star_gradients
