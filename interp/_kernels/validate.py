@@ -75,7 +75,7 @@ def leave_one_out(
                         break
             if not _next_combo(combo, k):
                 break
-        if deepest == -np.inf or _longest(x, link, best) > max_edge:
+        if deepest == -np.inf or longest(x, link, best) > max_edge:
             continue
         for i in range(r):
             tri[p, i] = link[best[i]]
@@ -84,7 +84,7 @@ def leave_one_out(
             new, n_new = _star_cells(
                 y, best, _boundary(cells, vc_idx[vc_ptr[p] : vc_ptr[p + 1]], p, local)
             )
-            stamp = _star_gradients(
+            stamp = star_gradients(
                 x,
                 v,
                 cells,
@@ -108,8 +108,8 @@ def leave_one_out(
     return stamp
 
 
-@numba.njit(cache=True, nogil=True)
-def _star_gradients(
+@inner
+def star_gradients(
     x,
     v,
     cells,
@@ -385,7 +385,7 @@ def _new_rings(
     over_idx = np.empty(size, dtype=np.int64)
     new_kept = np.empty(n_new, dtype=np.bool_)
     for c in range(n_new):
-        new_kept[c] = max_edge == np.inf or _longest(x, link, new[c]) <= max_edge
+        new_kept[c] = max_edge == np.inf or longest(x, link, new[c]) <= max_edge
     count = 0
     for i in range(k):
         a = link[i]
@@ -470,7 +470,7 @@ def _bary(z, origin, inv, lam):  # pragma: no cover
 
 
 @inner
-def _longest(x, link, combo):  # pragma: no cover
+def longest(x, link, combo):  # pragma: no cover
     """Longest edge of the simplex of link vertices ``combo``, in the points' coordinates."""
     out = 0.0
     for i in range(combo.size):
@@ -519,9 +519,3 @@ def _smallest(a):  # pragma: no cover
     for i in range(1, a.size):
         out = min(out, a[i])
     return out
-
-
-#: the longest edge of a simplex of link vertices, for :mod:`interp._kernels.validate2d`.
-longest = _longest
-#: the gradients at the corners of a re-filled star, for :mod:`interp._kernels.validate2d`.
-star_gradients = _star_gradients

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from interp._kernels import inner, kernel
 from interp._kernels.predicates import incircle, orient2d
 from interp._kernels.validate import longest, star_gradients
 
@@ -13,7 +13,7 @@ ON_LINE = 1  # at a bend, an end or a crossing of the constraints: not computed
 NO_FAN = 2  # inside the data, but its cells are not one fan (a thin cell was dropped)
 
 
-@numba.njit(cache=True, nogil=True)
+@kernel
 def leave_one_out2d(
     x,
     v,
@@ -121,7 +121,7 @@ def leave_one_out2d(
         _restore(v, deps, saved)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _ring(cells, star, p):  # pragma: no cover
     """The link of p in counter-clockwise order around it, its length and
     whether it is closed (k cells) or a chain (k - 1 cells).  Length 0 when the
@@ -162,12 +162,12 @@ def _ring(cells, star, p):  # pragma: no cover
     return ring, k, closed
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _contains(arr, value):  # pragma: no cover
     return _find(arr, value) >= 0
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _find(arr, value):  # pragma: no cover
     """Position of ``value`` in ``arr``, -1 when absent."""
     for i in range(arr.size):
@@ -176,7 +176,7 @@ def _find(arr, value):  # pragma: no cover
     return -1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _fill(x, ring, k, closed, split):  # pragma: no cover
     """Constrained Delaunay triangles (positions in ``ring``) filling the star.
 
@@ -201,7 +201,7 @@ def _fill(x, ring, k, closed, split):  # pragma: no cover
     return out, _polygon(x, ring, rest, out, count)
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _polygon(x, ring, poly, out, count):  # pragma: no cover
     """Append the constrained Delaunay triangulation of the simple polygon
     ``ring[poly]`` (counter-clockwise) to ``out`` from row ``count``: ears
@@ -239,7 +239,7 @@ def _polygon(x, ring, poly, out, count):  # pragma: no cover
     return count
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _ear(x, ring, poly, nxt, a, i, b):  # pragma: no cover
     """Whether the corner a, i, b of the remaining polygon is convex and holds
     no other remaining vertex (closed triangle)."""
@@ -259,7 +259,7 @@ def _ear(x, ring, poly, nxt, a, i, b):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _flip(x, ring, out, start, count):  # pragma: no cover
     """Lawson flips over the edges shared by rows start..count of ``out``."""
     changed = True
@@ -297,7 +297,7 @@ def _flip(x, ring, out, start, count):  # pragma: no cover
                 break
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _opposite(out, t, a, b):  # pragma: no cover
     """Position in row t of the vertex after the directed edge a -> b, -1 if t lacks it."""
     for e in range(3):
@@ -306,13 +306,13 @@ def _opposite(out, t, a, b):  # pragma: no cover
     return -1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _orient(x, ring, a, b, c):  # pragma: no cover
     ga, gb, gc = ring[a], ring[b], ring[c]
     return orient2d(x[ga, 0], x[ga, 1], x[gb, 0], x[gb, 1], x[gc, 0], x[gc, 1])
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _holding(x, ring, new, n_new, p):  # pragma: no cover
     """The first of the new triangles whose closed area holds node p, -1 if none."""
     for s in range(n_new):
@@ -326,7 +326,7 @@ def _holding(x, ring, new, n_new, p):  # pragma: no cover
     return -1
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _barycentric(x, ring, corners, p, lam):  # pragma: no cover
     """Barycentric coordinates of node p in the triangle ``ring[corners]``, from
     coordinates relative to p."""
@@ -339,7 +339,7 @@ def _barycentric(x, ring, corners, p, lam):  # pragma: no cover
     lam[0], lam[1], lam[2] = la / total, lb / total, lc / total
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _revalue(x, v, plain, star, p, deps):  # pragma: no cover
     """Set the values of the nodes ``deps`` from the plain Delaunay surface of
     the data without p: its star re-filled, each node located in it (in the
@@ -369,7 +369,7 @@ def _revalue(x, v, plain, star, p, deps):  # pragma: no cover
     return True
 
 
-@numba.njit(cache=True, nogil=True)
+@inner
 def _restore(v, deps, saved):  # pragma: no cover
     for j in range(deps.size):
         v[deps[j]] = saved[j]
