@@ -45,8 +45,8 @@ def number(value: float | None, places: int = 0) -> str:
     """``value`` in fixed point with at least ``places`` decimals and 6 significant digits.
 
     Decimals beyond ``places`` that only the significant digits asked for
-    are trimmed of trailing zeros, and there are at most 6 of them: a value
-    a million times finer than the resolution asked for (the round-off of a
+    are trimmed of trailing zeros.  A value that is zero to 6 decimals beyond
+    ``places`` (a million times finer than the resolution: the round-off of a
     volume that is zero) prints as 0 at that resolution.  None and NaN print
     as ``-``.
 
@@ -64,10 +64,11 @@ def number(value: float | None, places: int = 0) -> str:
     if math.isinf(value):
         return "inf" if value > 0 else "-inf"
     magnitude = math.floor(math.log10(abs(value))) if value else 0
-    k = min(max(places, DIGITS - 1 - magnitude), places + DIGITS, 12)
+    k = min(max(places, DIGITS - 1 - magnitude), 12)
+    if abs(value) < 0.5 * 10.0 ** -(places + DIGITS):
+        k = places  # zero at a million times the resolution: round-off of a zero
+        value = 0.0
     text = f"{value:.{k}f}"
-    if float(text) == 0.0:
-        text = text.lstrip("-")
     if k > places:
         head, _, tail = text.partition(".")
         tail = tail.rstrip("0").ljust(places, "0")

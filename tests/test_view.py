@@ -597,7 +597,7 @@ def test_breaklines_stand_apart_from_edges_region_and_colour_maps():
     p.close()
     with pytest.raises(interp.InterpError, match="breaklines are drawn on 2D pictures only"):
         plot(interp.Field(cube_mesh(1), np.zeros(8)), breaklines=LINES, window_size=SIZE)
-    with pytest.raises(interp.InterpError, match="line 0 has shape"):
+    with pytest.raises(interp.InterpError, match="line 1 has shape"):
         plot(f, breaklines=[[[0.0, 0.0]]], window_size=SIZE)
 
 
