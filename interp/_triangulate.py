@@ -200,28 +200,6 @@ def boundary_rings(boundary: object) -> list[np.ndarray] | None:
     return list(rings) if rings is not None else [as_ring(boundary, "boundary")]
 
 
-def inside_boundary(points: np.ndarray, cells: np.ndarray, boundary: object) -> np.ndarray:
-    """The centroid mask of a ``boundary``: True for cells whose centroid lies inside
-    the polygon (an :class:`interp.Polygon`, holes included, or one ring of vertices);
-    2D only.  :func:`triangulate` inserts a boundary instead; leave-one-out keeps
-    its plain Delaunay cells and masks them with this.
-
-    Examples
-    --------
-    >>> from interp import Polygon
-    >>> pts = np.array([[0.0, 0], [4, 0], [0, 4], [4, 4]])
-    >>> square = [[-1, -1], [5, -1], [5, 5], [-1, 5]]
-    >>> hole = [[2.1, 2.1], [3.9, 2.1], [3.9, 3.9], [2.1, 3.9]]
-    >>> cells = np.array([[0, 1, 2], [1, 3, 2]])
-    >>> inside_boundary(pts, cells, Polygon(square, [hole])).tolist()
-    [True, False]
-    """
-    d = points.shape[1]
-    if d != 2:
-        raise InterpError(f"boundary polygons apply to 2D points; these are {d}D")
-    return contains(boundary_rings(boundary), points[cells].mean(axis=1))
-
-
 def _drop_flat(
     cells: np.ndarray, vol: np.ndarray, size: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

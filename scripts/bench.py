@@ -126,7 +126,8 @@ def bench_grid(small: bool) -> None:
     axis = np.linspace(0.0, 1.0, side)
     xx, yy = np.meshgrid(axis, axis, indexing="ij")
     print(f"{n:,} points onto a {side} x {side} grid")
-    t_ref = best_of(lambda: griddata(pts, vals, (xx, yy), method="linear"), 1)
+    rounds = 1 if small else 2  # best of two: the first pays for touching fresh memory
+    t_ref = best_of(lambda: griddata(pts, vals, (xx, yy), method="linear"), rounds)
     spacing = 1.0 / (side - 1)
     bounds = (0.0, 1.0, 0.0, 1.0)
 
@@ -134,21 +135,23 @@ def bench_grid(small: bool) -> None:
         field = interp.Field(interp.triangulate(pts), vals)
         return interp.to_grid(field, spacing=spacing, bounds=bounds)
 
-    t_ours = best_of(ours, 1)
+    # warm: the compiled kernels loaded from their cache once, as in any session's later calls
+    interp.to_grid(interp.Field(interp.triangulate(pts[:1000]), vals[:1000]), spacing=0.1)
+    t_ours = best_of(ours, rounds)
     row("end to end (triangulate + evaluate)", t_ours, t_ref)
     # scipy looks for each node outside the hull of the points among all its
     # triangles, so the grid above (whose border rows stick out) costs it most;
     # the same comparison on the nodes 1% or more inside the square leaves that out
     inner = axis[(axis >= 0.01) & (axis <= 0.99)]
     ix, iy = np.meshgrid(inner, inner, indexing="ij")
-    t_ref = best_of(lambda: griddata(pts, vals, (ix, iy), method="linear"), 1)
+    t_ref = best_of(lambda: griddata(pts, vals, (ix, iy), method="linear"), rounds)
     inside = (inner[0], inner[-1], inner[0], inner[-1])
 
     def ours_inside():
         field = interp.Field(interp.triangulate(pts), vals)
         return interp.to_grid(field, spacing=spacing, bounds=inside)
 
-    row("end to end, nodes inside the hull only", best_of(ours_inside, 1), t_ref)
+    row("end to end, nodes inside the hull only", best_of(ours_inside, rounds), t_ref)
     tri = Delaunay(pts)
     ref = LinearNDInterpolator(tri, vals)
     field = interp.Field(interp.Mesh(pts, tri.simplices), vals)
