@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -23,7 +24,7 @@ from interp._geometry import grid_nodes
 from interp._progress import task
 from interp.errors import InterpError
 from interp.field import Field
-from interp.index import CellIndex, Location
+from interp.index import CellIndex, Location, threads
 from interp.io import grid_to_xarray, read_zarr, save_grid
 
 if TYPE_CHECKING:
@@ -428,13 +429,22 @@ def to_grid(
     rows = max(1, BLOCK_NODES // max(1, total // shape[0]))
     for m in meshes:
         _ = m.index  # built before the grid's bar starts: it has a bar of its own
-    with task("evaluating the grid", total=total, unit="nodes") as advance:
-        for s in range(0, shape[0], rows):
-            block = (axes[0][s : s + rows],) + axes[1:]
-            start = s * (total // shape[0])
-            for name, v in evaluate_fields(named, lambda ix, b=block: ix.locate_grid(b)).items():
-                out[name][start : start + len(v)] = v
-            advance(len(block[0]) * (total // shape[0]))
+    per_row = total // shape[0]
+
+    def rows_from(s: int) -> int:
+        block = (axes[0][s : s + rows],) + axes[1:]
+        for name, v in evaluate_fields(named, lambda ix: ix.locate_grid(block)).items():
+            out[name][s * per_row : s * per_row + len(v)] = v
+        return len(block[0]) * per_row
+
+    starts = range(0, shape[0], rows)
+    # blocks in threads (the kernels release the GIL), each writing its own rows
+    with (
+        task("evaluating the grid", total=total, unit="nodes") as advance,
+        ThreadPoolExecutor(threads(total, len(starts))) as pool,
+    ):
+        for done in pool.map(rows_from, starts):
+            advance(done)
     fields_out = {n: v.reshape(shape + v.shape[1:]) for n, v in out.items()}
     if all(np.isnan(v).all() for v in out.values()):
         warnings.warn(
