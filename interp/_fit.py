@@ -256,10 +256,13 @@ def fit(
     return Field(mesh.elevate(), values, name=name, units=units)
 
 
-def node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
+def node_values(
+    data: Samples, mesh: Mesh, added: np.ndarray, plain: Mesh | None = None
+) -> np.ndarray:
     """Values at every mesh node: the data, then the nodes that breaklines added
     (their values along the line; from the data's own surface where the line has
-    none).
+    none).  ``plain`` is the data's own Delaunay triangulation when the caller
+    has it already.
 
     Examples
     --------
@@ -282,7 +285,8 @@ def node_values(data: Samples, mesh: Mesh, added: np.ndarray) -> np.ndarray:
     vals = np.repeat(added[:, None], c, axis=1)
     missing = np.isnan(added)
     if missing.any():
-        surface = Field(triangulate(data.unique), data.shaped(data.mean))
+        plain = plain if plain is not None else triangulate(data.unique)
+        surface = Field(plain, data.shaped(data.mean))
         where = mesh.points[len(data.unique) :][missing]
         vals[missing] = np.asarray(surface(where)).reshape(len(where), c)
     return np.vstack([data.mean, vals])

@@ -362,16 +362,16 @@ def _constrained(
     mesh, added, edges = mesh_and_added(data.unique, None, boundary, breaklines)
     x, cells = mesh.points, mesh.cells
     n = len(data.unique)
-    v = node_values(data, mesh, added)
+    plain = triangulate(data.unique)
+    v = node_values(data, mesh, added, plain)
     kept = _short(x, cells, limit)
     ptr, idx = _rings(mesh, kept, order)
     tri, bary, grad = _outputs(n, 2, v.shape[1], order)
     nodal = np.full((n, 3, v.shape[1]), np.nan)
     vc_ptr, vc_idx = _vertex_cells(cells, len(x))
     cptr, cidx = adjacency(edges, len(x))
-    plain = triangulate(data.unique).cells
-    pvc_ptr, pvc_idx = _vertex_cells(plain, n)
-    dep_ptr, dep_idx = _dependants(data.unique, plain, x, n + np.flatnonzero(np.isnan(added)))
+    pvc_ptr, pvc_idx = _vertex_cells(plain.cells, n)
+    dep_ptr, dep_idx = _dependants(plain, x, n + np.flatnonzero(np.isnan(added)))
     status = np.zeros(n, dtype=np.int8)
     fixed = _fixed(data.unique, breaklines, boundary)
     p2_grad = grad if order == 2 else None
@@ -388,7 +388,7 @@ def _constrained(
         cptr,
         cidx,
         fixed,
-        plain,
+        plain.cells,
         pvc_ptr,
         pvc_idx,
         dep_ptr,
@@ -444,16 +444,14 @@ def _used(cells: np.ndarray, kept: np.ndarray, n: int) -> np.ndarray:
     return np.bincount(cells[kept].ravel(), minlength=n) > 0
 
 
-def _dependants(
-    points: np.ndarray, plain: np.ndarray, x: np.ndarray, nodes: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
+def _dependants(plain: Mesh, x: np.ndarray, nodes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """For each data point, the ``nodes`` (rows of ``x``) valued from the data's
-    own surface through it: those in a cell of the plain Delaunay triangulation
-    ``plain`` of the ``points`` that has it as a corner; compressed sparse rows."""
-    n = len(points)
-    cell = Mesh(points, plain).locate(x[nodes]).cells
+    own surface through it: those in a cell of ``plain``, the data's own Delaunay
+    triangulation, that has it as a corner; compressed sparse rows."""
+    n = plain.n_nodes
+    cell = plain.locate(x[nodes]).cells
     found = cell >= 0
-    corner = plain[cell[found]].ravel()
+    corner = plain.cells[cell[found]].ravel()
     node = np.repeat(nodes[found], 3)
     order = np.argsort(corner, kind="stable")
     ptr = np.zeros(n + 1, dtype=np.int64)
