@@ -287,7 +287,8 @@ def _split(
     overlap raise."""
     a = coords[seg[:, 0]]
     b = coords[seg[:, 1]]
-    cross, where, overlap = kc.crossings(a[:, 0], a[:, 1], b[:, 0], b[:, 1])
+    # contiguous columns: one specialisation of the kernel, whatever the count
+    cross, where, overlap = kc.crossings(*np.ascontiguousarray(np.hstack([a, b]).T))
     both = overlap[(kind[overlap] == BREAKLINE).all(axis=1)]
     if len(both):
         i, j = both[0]

@@ -38,6 +38,7 @@ from interp._cli_args import (
 from interp._cli_run import run
 from interp._format import decimals, number, table, unit_power
 from interp._kernels import set_announce
+from interp._prepare import compile_ahead
 from interp._progress import enable
 from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs, read_las_points
@@ -405,10 +406,11 @@ def cmd_demo(args: argparse.Namespace) -> None:
 
 
 def cmd_prepare(args: argparse.Namespace) -> None:
-    report = interp.prepare()
+    report = interp.prepare(jobs=args.jobs)
     if not args.quiet:
         print(
             f"compiled {report.compiled} kernel specialisations in {report.seconds:.1f} s"
+            + (f" ({report.helpers + 1} processes)" if report.helpers else "")
             if report.compiled
             else f"every kernel already compiled (checked in {report.seconds:.1f} s)"
         )
@@ -574,7 +576,13 @@ def build_parser() -> argparse.ArgumentParser:
     p = add("demo", "run the whole job on the bundled demo data", cmd_demo)
     p.add_argument("--out", type=Path, default=Path("interp-demo"), help="output folder")
 
-    add("prepare", "compile every kernel ahead (servers, containers, CI)", cmd_prepare)
+    p = add("prepare", "compile every kernel ahead (servers, containers, CI)", cmd_prepare)
+    p.add_argument(
+        "--jobs",
+        type=count,
+        metavar="N",
+        help="processes to compile with, this one included (default: one per core)",
+    )
     return parser
 
 
@@ -592,7 +600,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         set_announce(False)
     # live bars of the long steps, on a terminal only (never piped, never with --quiet)
     enable(not quiet and sys.stderr.isatty())
-    return run(args)
+    # on a first run, helper processes compile this command's kernels on the spare cores
+    with compile_ahead(f"interp {args.command}"):
+        return run(args)
 
 
 if __name__ == "__main__":

@@ -120,3 +120,109 @@ def test_prepare_leaves_nothing_to_compile():
     interp.crossvalidate(pts, pts[:, 0] ** 2, order=2)
     interp.fit(pts, pts[:, 1], order=2)(pts[:5])
     assert sum(k.stats.cache_misses.total() for k in _all_kernels()) == before
+
+
+def _kernel_modules() -> list:
+    import importlib
+    import pkgutil
+
+    return [
+        importlib.import_module(f"interp._kernels.{m.name}")
+        for m in pkgutil.iter_modules(_kernels.__path__)
+    ]
+
+
+def test_every_kernel_order_names_kernels_with_their_argument_count_and_known_types():
+    import inspect
+
+    from interp import _prepare
+
+    orders = _prepare._orders()
+    assert {"prepare", "interp demo", "interp grid", "interp crossval"} <= set(orders)
+    for key in orders:
+        entries = _prepare.kernel_order(key)
+        assert entries, key
+        for module, name, args in entries:
+            kernel = getattr(__import__(module, fromlist=[name]), name)
+            assert isinstance(kernel, numba.core.registry.CPUDispatcher), (key, name)
+            assert len(inspect.signature(kernel.py_func).parameters) == len(args), (key, name)
+            for a in args:  # each type is one numba type, spelt as numba prints it
+                assert repr(eval(a, {"__builtins__": {}}, _prepare.TYPES)) == a
+
+
+def test_kernel_orders_are_what_prepare_uses(tmp_path):
+    # a fresh process runs prepare's workload (loading from the cache or compiling) and
+    # lists every kernel specialisation it holds; each entry of the "prepare" list must
+    # be one of them (a helper compiles nothing the workload does not use), and every
+    # command's list must be part of the "prepare" list (prepare leaves nothing out)
+    code = (
+        "import json, pkgutil, importlib, numba\n"
+        "import interp._kernels as k\n"
+        "from interp._prepare import _workload\n"
+        "_workload()\n"
+        "held = []\n"
+        "for m in pkgutil.iter_modules(k.__path__):\n"
+        "    mod = importlib.import_module('interp._kernels.' + m.name)\n"
+        "    for name, d in vars(mod).items():\n"
+        "        if isinstance(d, numba.core.registry.CPUDispatcher):\n"
+        "            for sig in d.overloads:\n"
+        "                held.append([mod.__name__, name, [repr(a) for a in sig]])\n"
+        "print(json.dumps(held))\n"
+    )
+    import json
+    import subprocess
+    import sys
+
+    from interp import _prepare
+
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    held = {json.dumps(e) for e in json.loads(out.stdout.splitlines()[-1])}
+    prepared = {json.dumps(list(e)) for e in _prepare.kernel_order("prepare")}
+    assert prepared <= held, sorted(prepared - held)[:3]
+    for key in _prepare._orders():
+        listed = {json.dumps(list(e)) for e in _prepare.kernel_order(key)}
+        assert listed <= prepared, (key, sorted(listed - prepared)[:3])
+
+
+def test_helpers_compile_the_list_from_the_end_into_the_cache(tmp_path):
+    # a copy of the package, so that nothing is cached: its list names two small kernels;
+    # the block compiles a third one, which starts one helper, and waits for it
+    import json
+    import shutil
+    import subprocess
+    import sys
+
+    shutil.copytree(ROOT, tmp_path / "interp", ignore=shutil.ignore_patterns("__pycache__"))
+    counting = ["Array(int64, 1, 'C', False, aligned=True)", "int64"]
+    order = {"test": [["interp._kernels.locate", "counting_order", counting]]}
+    (tmp_path / "interp" / "kernel_order.json").write_text(json.dumps(order))
+    code = (
+        "import numpy as np\n"
+        "from interp._prepare import compile_ahead\n"
+        "from interp._kernels.geometry import bad_cells\n"
+        "with compile_ahead('test', helpers=1, wait=True) as team:\n"
+        "    bad_cells(np.zeros((2, 3), dtype=np.int64), np.int64(3))\n"
+        "print(team.started, team.compiled)\n"
+    )
+    env = {"PYTHONPATH": str(tmp_path), "PATH": "/usr/bin:/bin"}
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, env=env, cwd=tmp_path
+    )
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.split() == ["1", "1"]
+    cached = [p.name for p in (tmp_path / "interp" / "_kernels" / "__pycache__").glob("*.nbi")]
+    assert any(n.startswith("locate.counting_order") for n in cached), cached
+    assert any(n.startswith("geometry.bad_cells") for n in cached), cached
+
+
+def test_a_block_that_compiles_nothing_starts_no_helper():
+    from interp._prepare import compile_ahead
+
+    pts = np.random.default_rng(1).random((20, 2))
+    interp.fit(pts, np.arange(20.0))  # its kernels are compiled or loaded now
+    with compile_ahead("prepare", helpers=1) as team:
+        interp.fit(pts, np.arange(20.0))
+    assert team.started == 0
+    with compile_ahead("no such list", helpers=4) as team:
+        pass
+    assert team.started == 0

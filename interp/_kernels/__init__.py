@@ -122,18 +122,22 @@ class _Announcer(event.Listener):
     def __init__(self) -> None:
         self.enabled: bool | None = None  # None: when stderr is a terminal
         self.done = False
+        self.hooks: list[Callable[[], None]] = []
         self.lock = threading.Lock()
 
     def on_start(self, ev: event.Event) -> None:
-        if self.done or not ev.data["dispatcher"].py_func.__module__.startswith(__name__):
+        ours = ev.data["dispatcher"].py_func.__module__.startswith(__name__)
+        if not ours or (self.done and not self.hooks):
             return
         with self.lock:
-            if self.done:
-                return
-            self.done = True
-            shown = self.enabled if self.enabled is not None else sys.stderr.isatty()
-            if shown:
-                write(NOTICE)  # above a progress bar, not inside it
+            hooks, self.hooks = self.hooks, []
+            if not self.done:
+                self.done = True
+                shown = self.enabled if self.enabled is not None else sys.stderr.isatty()
+                if shown:
+                    write(NOTICE)  # above a progress bar, not inside it
+        for hook in hooks:
+            hook()
 
     def on_end(self, ev: event.Event) -> None:
         pass
@@ -141,6 +145,26 @@ class _Announcer(event.Listener):
 
 _ANNOUNCER = _Announcer()
 event.register("numba:compile", _ANNOUNCER)
+
+
+def on_next_compile(hook: Callable[[], None]) -> Callable[[], None]:
+    """Call ``hook()`` once, when a kernel of this folder is next compiled (not
+    when one loads from the cache); returns a function that cancels it.
+
+    Examples
+    --------
+    >>> cancel = on_next_compile(lambda: print("compiling"))
+    >>> cancel()
+    """
+    with _ANNOUNCER.lock:
+        _ANNOUNCER.hooks.append(hook)
+
+    def cancel() -> None:
+        with _ANNOUNCER.lock:
+            if hook in _ANNOUNCER.hooks:
+                _ANNOUNCER.hooks.remove(hook)
+
+    return cancel
 
 
 def set_announce(enabled: bool | None) -> None:
