@@ -10,15 +10,8 @@ import interp
 from interp import _kernels
 from interp._kernels import (
     KernelCacheLocator,
-    clip,
-    evaluate,
-    fit,
-    geometry,
-    locate,
-    polygon,
     source_files,
     source_stamp,
-    validate,
 )
 
 ROOT = Path(interp.__file__).parent
@@ -39,10 +32,21 @@ def test_every_kernel_lives_in_the_kernels_folder():
     assert not outside, "numba kernels outside interp/_kernels: " + ", ".join(outside)
 
 
+def _kernel_modules() -> list:
+    import importlib
+    import pkgutil
+
+    return [
+        importlib.import_module(f"interp._kernels.{m.name}")
+        for m in pkgutil.iter_modules(_kernels.__path__)
+    ]
+
+
 def _all_kernels() -> list:
+    # every module of the folder, so a new one cannot be left out
     return [
         obj
-        for module in (clip, evaluate, fit, geometry, locate, polygon, validate)
+        for module in _kernel_modules()
         for obj in vars(module).values()
         if isinstance(obj, numba.core.registry.CPUDispatcher)
     ]
@@ -120,16 +124,6 @@ def test_prepare_leaves_nothing_to_compile():
     interp.crossvalidate(pts, pts[:, 0] ** 2, order=2)
     interp.fit(pts, pts[:, 1], order=2)(pts[:5])
     assert sum(k.stats.cache_misses.total() for k in _all_kernels()) == before
-
-
-def _kernel_modules() -> list:
-    import importlib
-    import pkgutil
-
-    return [
-        importlib.import_module(f"interp._kernels.{m.name}")
-        for m in pkgutil.iter_modules(_kernels.__path__)
-    ]
 
 
 def test_every_kernel_order_names_kernels_with_their_argument_count_and_known_types():
