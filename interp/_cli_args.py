@@ -18,7 +18,6 @@ import numpy as np
 import interp
 from interp._format import decimals
 from interp._progress import enabled, write
-from interp.io import is_las_file
 from interp.source import load
 
 #: a value such as ``-512000.5,-20,3e5``: a number list taken as an option's value, not an option
@@ -167,23 +166,14 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
         boundary=region_of(args.boundary),
         breaklines=lines_of(args.breaklines),
         name=args.field,
-        **las_options(args, path or args.source),
+        **las_options(args),
         units=args.units,
     )
 
 
-def las_options(args: argparse.Namespace, path: Path) -> dict:
-    """The LAS/LAZ reading options given on the command line, checked against the source."""
-    options = {
-        "classes": args.classes,
-        "every": args.every,
-        "lowest_per_cell": args.lowest_per_cell,
-    }
-    if not is_las_file(path) and any(v is not None for v in options.values()):
-        raise interp.InterpError(
-            f"{path}: --classes, --every and --lowest-per-cell apply to .las/.laz sources only"
-        )
-    return options
+def las_options(args: argparse.Namespace) -> dict:
+    """The LAS/LAZ thinning options given on the command line (checked by the reader)."""
+    return {"classes": args.classes, "every": args.every, "lowest_per_cell": args.lowest_per_cell}
 
 
 def region_of(path: Path | None) -> interp.Polygon | None:

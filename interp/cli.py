@@ -41,8 +41,15 @@ from interp._kernels import set_announce
 from interp._prepare import compile_ahead
 from interp._progress import enable
 from interp.grid import corner_bounds
-from interp.io import is_las_file, las_crs, read_las_points
-from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
+from interp.io import is_las_file, las_crs
+from interp.source import (
+    choose_fields,
+    describe,
+    describe_grid,
+    is_grid_file,
+    read_source_points,
+    sample_file,
+)
 
 MEASURES = ("length", "area", "volume")
 SIGN = "difference = upper minus lower; above and below are positive amounts"
@@ -301,11 +308,7 @@ def first_field(fields: dict[str, interp.Field]) -> interp.Field:
 
 
 def cmd_crossval(args: argparse.Namespace) -> None:
-    options = las_options(args, args.source)
-    if is_las_file(args.source):  # LAS/LAZ point clouds
-        points, values = read_las_points(args.source, coords=args.coords, **options)
-    else:
-        points, values = interp.read_points(args.source, coords=args.coords)
+    points, values = read_source_points(args.source, coords=args.coords, **las_options(args))
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")

@@ -23,6 +23,7 @@ from interp.errors import InterpError
 from interp.field import Field
 from interp.io import (
     GRID_READERS,
+    POINT_READERS,
     TableWriter,
     component_names,
     field_columns,
@@ -99,14 +100,8 @@ def load(
     1.5
     """
     thinning = {"classes": classes, "every": every, "lowest_per_cell": lowest_per_cell}
-    thinning = {k: v for k, v in thinning.items() if v is not None}
-    if thinning and not is_las_file(path):
-        raise InterpError(
-            f"{path}: classes, every and lowest_per_cell apply to LAS/LAZ point clouds only"
-        )
-    reader = point_reader(path)
-    if reader is not None:
-        points, values = reader(path, coords=tuple(coords), **thinning)
+    if point_reader(path) is not None:
+        points, values = read_source_points(path, coords=coords, **thinning)
         if not values:
             raise InterpError(
                 f"{path}: no value columns besides the coordinates {', '.join(coords)}"
@@ -129,6 +124,45 @@ def load(
         raise InterpError(f"{path}: the mesh file has no point data to use as a field")
     chosen = choose_fields(data, name, path)
     return {key: Field(mesh, v, name=key, units=units) for key, v in chosen.items()}
+
+
+def read_source_points(
+    path: str | Path,
+    *,
+    coords: Sequence[str] = ("x", "y"),
+    classes: Sequence[int] | None = None,
+    every: int | None = None,
+    lowest_per_cell: float | None = None,
+) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Read the points and value columns of a point file or a LAS/LAZ cloud.
+
+    The reader is the one :data:`interp.io.POINT_READERS` has for the
+    suffix; ``classes``, ``every`` and ``lowest_per_cell`` thin a LAS/LAZ
+    cloud as it is read (see :func:`interp.io._las.read_las`) and are
+    refused for any other source, as is a mesh file.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> _ = (d / "s.csv").write_text("x,y,z\\n0,0,1\\n1,0,2\\n0,1,3\\n")
+    >>> points, values = read_source_points(d / "s.csv")
+    >>> points.shape, values["z"].tolist()
+    ((3, 2), [1.0, 2.0, 3.0])
+    """
+    thinning = {"classes": classes, "every": every, "lowest_per_cell": lowest_per_cell}
+    thinning = {k: v for k, v in thinning.items() if v is not None}
+    if thinning and not is_las_file(path):
+        raise InterpError(
+            f"{path}: the thinning options (classes, every, lowest_per_cell; on the command "
+            "line --classes, --every, --lowest-per-cell) apply to LAS/LAZ point clouds only"
+        )
+    reader = point_reader(path)
+    if reader is None:
+        raise InterpError(
+            f"{path}: not a point file; give one ending in {', '.join(POINT_READERS)}"
+        )
+    return reader(path, coords=tuple(coords), **thinning)
 
 
 def choose_fields(values: dict[str, np.ndarray], name: str | None, path: str | Path) -> dict:

@@ -494,4 +494,5 @@ def test_cli_crs_option_and_geojson_region(tmp_path, capsys):
     assert cli("grid", tmp_path / "s.csv", "--spacing", 5, "--crs", "EPSG:2056", "-o", out) == 0
     assert "do not store a coordinate reference system" in capsys.readouterr().err
     assert cli("crossval", tmp_path / "s.csv", "--every", 2) == 1
-    assert "--every and --lowest-per-cell apply to .las/.laz" in capsys.readouterr().err
+    refusal = "--every, --lowest-per-cell) apply to LAS/LAZ point clouds only"
+    assert refusal in capsys.readouterr().err

@@ -5,7 +5,14 @@ import pytest
 
 import interp
 from interp import Field, InterpError, Mesh
-from interp.source import choose_fields, describe, is_point_file, load, sample_file
+from interp.source import (
+    choose_fields,
+    describe,
+    is_point_file,
+    load,
+    read_source_points,
+    sample_file,
+)
 
 
 def plane(xy):
@@ -87,3 +94,14 @@ def test_sample_file_with_no_rows_is_an_error(survey, tmp_path):
     with pytest.raises(InterpError, match="no data rows"):
         sample_file(load(survey, name="z"), query, tmp_path / "out.csv")
     assert not (tmp_path / "out.csv").exists()
+
+
+def test_read_source_points_refuses_a_mesh_file_and_thinning_of_a_text_file(tmp_path):
+    (tmp_path / "s.csv").write_text("x,y,z\n0,0,1\n1,0,2\n0,1,3\n")
+    with pytest.raises(InterpError, match=r"not a point file; give one ending in \.csv"):
+        read_source_points(tmp_path / "part.vtu")
+    with pytest.raises(InterpError, match="apply to LAS/LAZ point clouds only"):
+        read_source_points(tmp_path / "s.csv", classes=[2])
+    points, values = read_source_points(tmp_path / "s.csv", coords=("x", "y"))
+    assert points.tolist() == [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]]
+    assert values["z"].tolist() == [1.0, 2.0, 3.0]
