@@ -18,7 +18,7 @@ import numpy as np
 import interp
 from interp._format import decimals
 from interp._progress import enabled, write
-from interp.source import load
+from interp.source import load, read_source_points
 
 #: a value such as ``-512000.5,-20,3e5``: a number list taken as an option's value, not an option
 NUMBER_LIST = re.compile(r"^-\.?\d[-+.,\deE]*$")
@@ -174,6 +174,11 @@ def open_source(args: argparse.Namespace, path: Path | None = None) -> dict[str,
 def las_options(args: argparse.Namespace) -> dict:
     """The LAS/LAZ thinning options given on the command line (checked by the reader)."""
     return {"classes": args.classes, "every": args.every, "lowest_per_cell": args.lowest_per_cell}
+
+
+def point_source(args: argparse.Namespace) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """The points and value columns of the SOURCE point file or LAS/LAZ cloud."""
+    return read_source_points(args.source, coords=args.coords, **las_options(args))
 
 
 def region_of(path: Path | None) -> interp.Polygon | None:

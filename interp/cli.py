@@ -24,11 +24,11 @@ from interp._cli_args import (
     Parser,
     count,
     emit,
-    las_options,
     lines_of,
     numbers,
     open_source,
     places,
+    point_source,
     positive,
     region_of,
     source_options,
@@ -42,14 +42,7 @@ from interp._prepare import compile_ahead
 from interp._progress import enable
 from interp.grid import corner_bounds
 from interp.io import is_las_file, las_crs
-from interp.source import (
-    choose_fields,
-    describe,
-    describe_grid,
-    is_grid_file,
-    read_source_points,
-    sample_file,
-)
+from interp.source import choose_fields, describe, describe_grid, is_grid_file, sample_file
 
 MEASURES = ("length", "area", "volume")
 SIGN = "difference = upper minus lower; above and below are positive amounts"
@@ -308,7 +301,7 @@ def first_field(fields: dict[str, interp.Field]) -> interp.Field:
 
 
 def cmd_crossval(args: argparse.Namespace) -> None:
-    points, values = read_source_points(args.source, coords=args.coords, **las_options(args))
+    points, values = point_source(args)
     values = choose_fields(values, args.field, args.source)
     if not values:
         raise interp.InterpError(f"{args.source}: no value column to cross-validate")
@@ -580,12 +573,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--out", type=Path, default=Path("interp-demo"), help="output folder")
 
     p = add("prepare", "compile every kernel ahead (servers, containers, CI)", cmd_prepare)
-    p.add_argument(
-        "--jobs",
-        type=count,
-        metavar="N",
-        help="processes to compile with, this one included (default: one per core)",
-    )
+    p.add_argument("--jobs", type=count, metavar="N", help="compiling processes (default: cores)")
     return parser
 
 
