@@ -9,7 +9,9 @@ functions are what the command line calls; they are as usable from Python.
 from __future__ import annotations
 
 import dataclasses
+from collections import deque
 from collections.abc import Callable, Iterator, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from contextlib import ExitStack
 from dataclasses import dataclass
 from pathlib import Path
@@ -311,6 +313,9 @@ SAMPLED = "_sampled"
 #: suffix of the residual column of a check point (known minus sampled).
 RESIDUAL = "_residual"
 
+#: blocks of query rows :func:`sample_file` reads ahead of the one it evaluates.
+READ_AHEAD = 2
+
 
 @renamed(query="query_file")
 def sample_file(
@@ -333,8 +338,13 @@ def sample_file(
     minus sampled, follows, and the report gives the RMS of the residuals.
     A LAS/LAZ query cloud (``.las``, ``.laz``) is streamed the same way and
     written as comma-separated columns ``x, y`` (``z``) and its fields (``z`` and
-    extra dimensions), then the sampled fields.  Memory stays bounded by
-    ``chunk_rows`` however long the file.  The output is written atomically.
+    extra dimensions), then the sampled fields.  The three stages overlap: a
+    thread reads and parses up to :data:`READ_AHEAD` blocks ahead, the calling
+    thread evaluates one block (``evaluate`` is called there), and another
+    thread formats and writes the block before it; an error in any stage is
+    raised in the calling thread, once the other two have stopped.  Memory
+    stays bounded by ``chunk_rows`` however long the file.  The output is
+    written atomically.
 
     Parameters
     ----------
@@ -381,13 +391,19 @@ def sample_file(
     sampled = [c for n, f in fields.items() for c in component_names(n, f.n_components)]
     with ExitStack() as stack:
         advance = stack.enter_context(task("sampling", unit="rows"))
-        writer = None
         blocks = _query_blocks(query_file, coords, chunk_rows)
-        for head, delimiter, text, points, lead, numeric in blocks:
+        stack.callback(blocks.close)
+        reader = _stage(stack)
+        ahead = deque(reader.submit(next, blocks, None) for _ in range(READ_AHEAD))
+        writer = written = None
+        while (block := ahead.popleft().result()) is not None:
+            ahead.append(reader.submit(next, blocks, None))
+            head, delimiter, text, points, lead, numeric = block
             if writer is None:
                 columns, known, residuals = _output_columns(head, numeric, sampled)
                 header = head + [h for c in sampled for h in (columns[c], residuals.get(c)) if h]
                 writer = stack.enter_context(TableWriter(out, header, delimiter))
+                formatter = _stage(stack)
                 sums = {c: np.zeros(3) for c in known}
                 worst = dict.fromkeys(known, 0.0)
             values = np.hstack(
@@ -404,14 +420,27 @@ def sample_file(
                     ok = r[np.isfinite(r)]
                     sums[c] += (ok.size, ok.sum(), (ok**2).sum())
                     worst[c] = max(worst[c], float(np.abs(ok).max(initial=0.0)))
-            block = np.column_stack(table)
-            writer.write(text, block if lead is None else np.hstack([lead, block]))
+            cells = np.column_stack(table)
+            if written is not None:
+                written.result()
+            written = formatter.submit(
+                writer.write, text, cells if lead is None else np.hstack([lead, cells])
+            )
             rows += len(points)
             advance(len(points))
         if writer is None:
             raise InterpError(f"{query_file}: the query file has no data rows")
+        written.result()
     checks = {columns[c]: _check_summary(sums[c], worst[c]) for c in known}
     return SampleReport(rows, outside, Path(out), columns, checks)
+
+
+def _stage(stack: ExitStack) -> ThreadPoolExecutor:
+    """A thread of its own for one stage of :func:`sample_file`, its work run in
+    order; when ``stack`` closes, work not started is dropped and the thread joined."""
+    pool = ThreadPoolExecutor(1)
+    stack.callback(pool.shutdown, cancel_futures=True)
+    return pool
 
 
 def _output_columns(names: list[str], numeric: dict, sampled: list[str]) -> tuple[dict, ...]:

@@ -1,5 +1,7 @@
 """Sources in process: files read as named fields, summaries, file-to-file sampling."""
 
+import threading
+
 import numpy as np
 import pytest
 
@@ -105,3 +107,126 @@ def test_read_source_points_refuses_a_mesh_file_and_thinning_of_a_text_file(tmp_
     points, values = read_source_points(tmp_path / "s.csv", coords=("x", "y"))
     assert points.tolist() == [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]]
     assert values["z"].tolist() == [1.0, 2.0, 3.0]
+
+
+def triangle_field():
+    """z = 4x + 8y on the unit right triangle: a P1 field reproduces a linear function
+    (common practice), and at coordinates that are multiples of 1/8 every step of the
+    evaluation is exact in binary floating point, so the sampled values are known exactly."""
+    return Field(Mesh([[0.0, 0], [1, 0], [0, 1]], [[0, 1, 2]]), [0.0, 4.0, 8.0])
+
+
+def query_rows(n):
+    """Semicolon rows: a quoted id holding the delimiter, x, y, and a known z (every
+    fifth cell empty); every seventh point lies outside the triangle."""
+    rows, want = [], []
+    for i in range(n):
+        x, y = (i % 4) / 8, (i % 3) / 8
+        if i % 7 == 3:
+            x, y = 1.0 + x, 1.0
+        known = None if i % 5 == 2 else (i % 11) / 4
+        rows.append(f'"pt; {i}";{x};{y};{"" if known is None else known}')
+        z = 4 * x + 8 * y if x + y <= 1 else None
+        residual = None if z is None or known is None else known - z
+        want.append((z, residual))
+    return rows, want
+
+
+def cell(v):
+    # shortest round-trip text, as Python's repr writes it, without a trailing ".0"
+    return "" if v is None else repr(float(v)).removesuffix(".0")
+
+
+def test_sample_file_writes_every_block_in_order_whatever_the_chunk_size(tmp_path):
+    rows, want = query_rows(61)
+    query = tmp_path / "q.csv"
+    query.write_text("id;x;y;z\n" + "\n".join(rows[:30]) + "\n\n" + "\n".join(rows[30:]) + "\n")
+    expected = ["id;x;y;z;z_sampled;z_residual"] + [
+        f"{row};{cell(z)};{cell(r)}" for row, (z, r) in zip(rows, want, strict=True)
+    ]
+    outside = sum(z is None for z, _ in want)
+    for chunk_rows in (1, 3, 8, 1000):
+        out = tmp_path / f"out{chunk_rows}.csv"
+        report = sample_file({"z": triangle_field()}, query, out, chunk_rows=chunk_rows)
+        assert out.read_bytes() == ("\n".join(expected) + "\n").encode()
+        assert (report.rows, report.outside) == (61, outside)
+        residuals = [r for _, r in want if r is not None]
+        assert report.checks["z_sampled"]["count"] == len(residuals)
+        assert report.checks["z_sampled"]["rms"] == pytest.approx(
+            np.sqrt(np.mean(np.square(residuals))), rel=1e-12
+        )
+
+
+def test_sample_file_calls_the_evaluate_hook_in_the_callers_thread(tmp_path):
+    rows, want = query_rows(20)
+    query = tmp_path / "q.csv"
+    query.write_text("id;x;y;z\n" + "\n".join(rows) + "\n")
+    calls = []
+
+    def evaluate(field, points):
+        calls.append((threading.get_ident(), len(points)))
+        return field(points) + 0.5
+
+    report = sample_file({"z": triangle_field()}, query, tmp_path / "o.csv", evaluate=evaluate)
+    assert report.rows == 20
+    assert calls == [(threading.get_ident(), 20)]
+    report = sample_file(
+        {"z": triangle_field()}, query, tmp_path / "o.csv", chunk_rows=6, evaluate=evaluate
+    )
+    assert [n for _, n in calls[1:]] == [6, 6, 6, 2]
+    assert {t for t, _ in calls} == {threading.get_ident()}
+    lines = (tmp_path / "o.csv").read_text().splitlines()
+    sampled = [line.rsplit(";", 2)[1] for line in lines[1:]]
+    assert sampled == [cell(None if z is None else z + 0.5) for z, _ in want]
+
+
+def failing_write(after):
+    """A TableWriter.write that fails, as on a full disk, once ``after`` blocks are written."""
+    write, done = interp.io.TableWriter.write, []
+
+    def fail(self, rows, values):
+        if len(done) == after:
+            raise OSError(28, "No space left on device")
+        done.append(len(values))
+        write(self, rows, values)
+
+    return fail
+
+
+@pytest.mark.parametrize("where", ["reading", "evaluating", "writing", "writing the last block"])
+def test_sample_file_failure_leaves_no_file_and_no_thread(tmp_path, monkeypatch, where):
+    rows, _ = query_rows(60)
+    if where == "reading":
+        rows[44] = '"pt; 44";not a number;0'  # line 46 of the file
+    query = tmp_path / "q.csv"
+    query.write_text("id;x;y;z\n" + "\n".join(rows) + "\n")
+    evaluate = None
+    if where == "evaluating":
+        blocks = []
+
+        def evaluate(field, points):
+            blocks.append(len(points))
+            if len(blocks) == 9:
+                raise InterpError("the evaluation failed")
+            return field(points)
+
+    if where.startswith("writing"):  # 15 blocks of 4 rows
+        after = 14 if where.endswith("last block") else 5
+        monkeypatch.setattr(interp.io.TableWriter, "write", failing_write(after))
+    message = {"reading": "line 46", "evaluating": "evaluation failed"}.get(where, "No space")
+    before = set(threading.enumerate())
+    with pytest.raises((InterpError, OSError), match=message):
+        sample_file(
+            {"z": triangle_field()}, query, tmp_path / "o.csv", chunk_rows=4, evaluate=evaluate
+        )
+    assert set(threading.enumerate()) == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["q.csv"]
+
+
+def test_sample_file_leaves_no_thread_running(tmp_path):
+    rows, _ = query_rows(30)
+    query = tmp_path / "q.csv"
+    query.write_text("id;x;y;z\n" + "\n".join(rows) + "\n")
+    before = set(threading.enumerate())
+    sample_file({"z": triangle_field()}, query, tmp_path / "o.csv", chunk_rows=4)
+    assert set(threading.enumerate()) == before
