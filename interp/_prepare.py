@@ -137,8 +137,8 @@ class Helpers:
         path = os.pathsep.join([home, *filter(None, [os.environ.get("PYTHONPATH")])])
         for part in range(parts):
             code = f"from interp._prepare import helper; helper({self.order!r}, {part}, {parts})"
-            self.processes.append(
-                subprocess.Popen(
+            try:
+                process = subprocess.Popen(
                     [sys.executable, "-c", code],
                     stdin=subprocess.DEVNULL,
                     stdout=subprocess.PIPE,
@@ -146,8 +146,10 @@ class Helpers:
                     text=True,
                     env={**os.environ, "PYTHONPATH": path},
                 )
-            )
-        self.started = parts
+            except OSError:  # no process to spare: the block compiles on its own
+                break
+            self.processes.append(process)
+        self.started = len(self.processes)
 
     def finish(self, wait: bool) -> None:
         """Wait for the helpers and count what they compiled, or stop them."""

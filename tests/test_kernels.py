@@ -220,3 +220,17 @@ def test_a_block_that_compiles_nothing_starts_no_helper():
     with compile_ahead("no such list", helpers=4) as team:
         pass
     assert team.started == 0
+
+
+def test_helpers_that_cannot_start_leave_the_block_to_compile_alone(monkeypatch):
+    from interp import _prepare
+
+    def refuse(*args, **kwargs):
+        raise OSError("Resource temporarily unavailable")
+
+    monkeypatch.setattr(_prepare.subprocess, "Popen", refuse)
+    team = _prepare.Helpers("prepare", 2)
+    team.start()
+    assert team.started == 0 and team.processes == []
+    team.finish(wait=True)
+    assert team.compiled == 0
