@@ -88,7 +88,10 @@ def main() -> None:
             (folder / "query.csv").write_text("id,x,y\nQ1,20,20\nQ2,60,35\nQ3,500,500\n")
             orders[key] = record(argv, folder)
             print(f"{key:<18} {len(orders[key]):3d} kernels", flush=True)
-    OUT.write_text(json.dumps(orders, indent=1) + "\n")
+    from interp.io import atomic_path
+
+    with atomic_path(OUT) as tmp:  # a half-written list would leave helpers nothing to read
+        tmp.write_text(json.dumps(orders, indent=1) + "\n", encoding="utf-8")
     print(f"wrote {OUT.relative_to(ROOT)}")
 
 
