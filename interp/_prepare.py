@@ -193,7 +193,7 @@ def compile_ahead(
     """
     count = max(_cores() - 1, 0) if helpers is None else max(helpers, 0)
     team = Helpers(order, count)
-    cancel = on_next_compile(team.start) if count and kernel_order(order) else (lambda: None)
+    cancel = on_next_compile(team.start) if count else (lambda: None)
     try:
         yield team
     finally:

@@ -209,7 +209,8 @@ def test_helpers_compile_the_list_from_the_end_into_the_cache(tmp_path):
     assert any(n.startswith("geometry.bad_cells") for n in cached), cached
 
 
-def test_a_block_that_compiles_nothing_starts_no_helper():
+def test_a_block_that_compiles_nothing_and_an_unknown_list_start_no_helper():
+    from interp import _prepare
     from interp._prepare import compile_ahead
 
     pts = np.random.default_rng(1).random((20, 2))
@@ -217,9 +218,10 @@ def test_a_block_that_compiles_nothing_starts_no_helper():
     with compile_ahead("prepare", helpers=1) as team:
         interp.fit(pts, np.arange(20.0))
     assert team.started == 0
-    with compile_ahead("no such list", helpers=4) as team:
-        pass
-    assert team.started == 0
+    # a list the file does not have: a compile would start nobody
+    team = _prepare.Helpers("no such list", 4)
+    team.start()
+    assert team.started == 0 and team.processes == []
 
 
 def test_helpers_that_cannot_start_leave_the_block_to_compile_alone(monkeypatch):
