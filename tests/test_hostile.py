@@ -525,10 +525,21 @@ def test_broken_pipe_is_quiet(inputs, tmp_path):
 # ---- interruption
 
 
+def _default_sigint() -> None:
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 def _interrupt(command, here: Path, sig: int) -> tuple[int, str]:
     """Start ``command``, send ``sig`` once its temporary output appears, and wait."""
     p = subprocess.Popen(
-        command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=here, text=True
+        command,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        cwd=here,
+        text=True,
+        # a shell's background job inherits SIGINT ignored, and Python keeps it so:
+        # the command must see Ctrl-C as it does at a terminal
+        preexec_fn=_default_sigint,
     )
     deadline = time.monotonic() + HANG
     while not any(f.name.startswith(".") for f in here.iterdir()):
