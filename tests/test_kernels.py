@@ -86,6 +86,21 @@ def test_stamp_covers_every_file_of_the_folder_and_the_tolerances(tmp_path, monk
     assert source_stamp() == stamps[0]  # the stamp is of contents, not of times
 
 
+def test_stamp_is_the_same_wherever_the_package_lies(tmp_path, monkeypatch):
+    # a cache compiled in a wheel's build tree must stay valid where it is installed
+    stamps = []
+    for place in ("build", "site-packages"):
+        folder = tmp_path / place / "_kernels"
+        folder.mkdir(parents=True)
+        (folder / "fit.py").write_text("A = 1\n")
+        (folder.parent / "_geometry.py").write_text("TOLERANCE = 1e-10\n")
+        monkeypatch.setattr(_kernels, "SOURCES", (folder, folder.parent / "_geometry.py"))
+        stamps.append(source_stamp())
+    assert stamps[0] == stamps[1]
+    (folder / "fit.py").rename(folder / "locate.py")  # same contents, another kernel file
+    assert source_stamp() != stamps[0]
+
+
 def _kernel_named(module: str):
     """A fresh, uncached numba function that numba reports as defined in ``module``."""
     namespace = {"__name__": module}

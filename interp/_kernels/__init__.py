@@ -20,7 +20,9 @@ of them recompiles every kernel on next use, and nothing has to be deleted by
 hand.
 
 Compiling takes from a fraction of a second to several seconds per kernel,
-only on a kernel's first use after installation or an edit.  Before the
+only on a kernel's first use after an edit, or when the cache that the
+installation compiled (``scripts/build_backend.py``) does not fit the numba,
+Python or processor in use.  Before the
 first compile of a process, :func:`announce` prints one line on stderr
 (:data:`NOTICE`) so that a first run does not look hung; by default only
 when stderr is a terminal (an interactive session, the command line), never
@@ -71,7 +73,9 @@ def source_files() -> list[Path]:
 def _stamp(state: tuple[tuple[str, int, int], ...]) -> str:
     digest = hashlib.sha256()
     for name, _, _ in state:
-        digest.update(name.encode())
+        # the file's name, not its path: a cache compiled in one place (a wheel's
+        # build tree) stays valid where the package is installed
+        digest.update(Path(name).name.encode())
         digest.update(Path(name).read_bytes())
     return digest.hexdigest()
 
