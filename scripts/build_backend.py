@@ -69,7 +69,7 @@ def build_editable(wheel_directory, config_settings=None, metadata_directory=Non
 
 def compile_kernels(root: Path) -> bool:
     """Run :func:`interp.prepare` on the package in ``root`` in a new process;
-    whether it ran to the end.  Never raises: a failure is reported on stderr."""
+    whether it ran to the end.  Never raises: a failure is reported in the build's output."""
     if os.environ.get("INTERP_PREPARE_ON_INSTALL", "1") == "0":
         return False
     env = dict(os.environ)
