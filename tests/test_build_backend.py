@@ -17,13 +17,23 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 @pytest.fixture
-def backend():
+def backend(monkeypatch):
+    monkeypatch.delenv("INTERP_PREPARE_ON_INSTALL", raising=False)
     spec = importlib.util.spec_from_file_location(
         "build_backend", ROOT / "scripts" / "build_backend.py"
     )
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
     return module
+
+
+@pytest.fixture
+def tree(tmp_path):
+    """A copy of the package with no compiled kernels, as pip's build tree holds it."""
+    shutil.copytree(
+        ROOT / "interp", tmp_path / "tree" / "interp", ignore=shutil.ignore_patterns("__pycache__")
+    )
+    return tmp_path / "tree"
 
 
 def test_pyproject_names_the_backend_and_its_folder():
@@ -42,16 +52,13 @@ def test_the_build_environment_gets_every_runtime_dependency(backend, monkeypatc
 
 
 def test_the_step_imports_the_tree_being_built_and_keeps_the_build_path(
-    backend, tmp_path, monkeypatch
+    backend, tree, tmp_path, monkeypatch
 ):
-    tree = tmp_path / "tree"
-    shutil.copytree(ROOT / "interp", tree / "interp", ignore=shutil.ignore_patterns("__pycache__"))
     # pip's build environment reaches its packages through PYTHONPATH
     build_env = tmp_path / "env"
     build_env.mkdir()
     (build_env / "from_build_env.py").write_text("")
     monkeypatch.setenv("PYTHONPATH", str(build_env))
-    monkeypatch.delenv("INTERP_PREPARE_ON_INSTALL", raising=False)
     monkeypatch.setattr(
         backend,
         "CODE",
@@ -62,10 +69,7 @@ def test_the_step_imports_the_tree_being_built_and_keeps_the_build_path(
     assert Path((tree / "seen.txt").read_text()) == tree / "interp" / "__init__.py"
 
 
-def test_what_the_step_compiles_a_new_process_loads(backend, tmp_path, monkeypatch):
-    tree = tmp_path / "tree"
-    shutil.copytree(ROOT / "interp", tree / "interp", ignore=shutil.ignore_patterns("__pycache__"))
-    monkeypatch.delenv("INTERP_PREPARE_ON_INSTALL", raising=False)
+def test_what_the_step_compiles_a_new_process_loads(backend, tree, monkeypatch):
     # a small 1D fit in one process stands for prepare() (tested in test_kernels)
     monkeypatch.setenv("INTERP_COMPILE_JOBS", "1")
     fit = "interp.fit([[0.0], [1.0], [3.0]], [1.0, 2.0, 0.0])"
@@ -86,7 +90,6 @@ def test_what_the_step_compiles_a_new_process_loads(backend, tmp_path, monkeypat
 
 
 def test_a_failed_step_does_not_stop_the_build(backend, tmp_path, monkeypatch, capsys):
-    monkeypatch.delenv("INTERP_PREPARE_ON_INSTALL", raising=False)
     monkeypatch.setattr(backend, "CODE", "raise SystemExit(3)")
     assert not backend.compile_kernels(tmp_path)
     assert "compile on first use" in capsys.readouterr().out
